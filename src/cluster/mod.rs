@@ -1,0 +1,1 @@
+//! Stage `cluster` (being written).

@@ -1,0 +1,111 @@
+//! Typed errors of the library.
+//!
+//! Every variant says what is wrong and where (file, line, column or spec key); the
+//! binary adds a `hint:` line where it can. [`Error::is_bad_input`] separates errors
+//! caused by the user's input (exit code 2) from internal failures (exit code 1).
+
+use std::path::PathBuf;
+
+/// Library result alias.
+pub type Result<T> = std::result::Result<T, Error>;
+
+/// Everything that can go wrong in a kinlink run.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum Error {
+    /// The linkage spec is invalid at `key`.
+    #[error("spec `{file}`: key `{key}`: {message}")]
+    Spec {
+        /// Spec file.
+        file: PathBuf,
+        /// Dotted key path, e.g. `source[1].columns.email`.
+        key: String,
+        /// What is wrong and what is allowed.
+        message: String,
+    },
+    /// A data file is unusable as a whole (missing column, empty file, duplicate ids).
+    #[error("`{file}`: {message}")]
+    Input {
+        /// The data file.
+        file: PathBuf,
+        /// What is wrong and what would fix it.
+        message: String,
+    },
+    /// A model file cannot be used.
+    #[error("model `{file}`: {message}")]
+    Model {
+        /// The model file.
+        file: PathBuf,
+        /// What is wrong.
+        message: String,
+    },
+    /// A command-line value is invalid.
+    #[error("{0}")]
+    Usage(String),
+    /// A blocking key would produce too many candidate pairs.
+    #[error("blocking key `{key}` would produce about {pairs} candidate pairs (limit {limit})")]
+    BlockTooLarge {
+        /// Name of the blocking key.
+        key: String,
+        /// Estimated pairs.
+        pairs: u64,
+        /// Configured limit.
+        limit: u64,
+    },
+    /// Reading or writing a file failed.
+    #[error("`{path}`: {source}")]
+    Io {
+        /// File involved.
+        path: PathBuf,
+        /// Underlying error.
+        #[source]
+        source: std::io::Error,
+    },
+    /// A CSV file could not be read or written.
+    #[error("`{path}`: {source}")]
+    Csv {
+        /// File involved.
+        path: PathBuf,
+        /// Underlying error.
+        #[source]
+        source: csv::Error,
+    },
+    /// A bug or an impossible state.
+    #[error("internal error: {0}")]
+    Internal(String),
+}
+
+impl Error {
+    /// True when the error is caused by the user's input (spec, data, model, flags).
+    pub fn is_bad_input(&self) -> bool {
+        match self {
+            Error::Spec { .. }
+            | Error::Input { .. }
+            | Error::Model { .. }
+            | Error::Usage(_)
+            | Error::BlockTooLarge { .. } => true,
+            // A file that cannot be found or read is the user's to fix.
+            Error::Io { source, .. } => matches!(
+                source.kind(),
+                std::io::ErrorKind::NotFound | std::io::ErrorKind::PermissionDenied
+            ),
+            Error::Csv { .. } => true,
+            Error::Internal(_) => false,
+        }
+    }
+
+    /// Wrap an I/O error with the path it happened on.
+    pub fn io(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
+        Error::Io { path: path.into(), source }
+    }
+
+    /// Shorthand for a spec error.
+    pub fn spec(file: impl Into<PathBuf>, key: impl Into<String>, message: impl Into<String>) -> Self {
+        Error::Spec { file: file.into(), key: key.into(), message: message.into() }
+    }
+
+    /// Shorthand for an input error.
+    pub fn input(file: impl Into<PathBuf>, message: impl Into<String>) -> Self {
+        Error::Input { file: file.into(), message: message.into() }
+    }
+}

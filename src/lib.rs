@@ -1,0 +1,31 @@
+//! kinlink decides which customer records from several source systems belong to the
+//! same real customer, gives each customer a stable surrogate key and publishes a
+//! crosswalk (source system + source id -> customer key).
+//!
+//! The pipeline is one module per stage:
+//!
+//! ```text
+//! sources -> standardize -> block -> compare -> model (EM) -> classify -> cluster -> keys -> output
+//! ```
+//!
+//! [`pipeline`] chains the stages; the `kinlink` binary is a thin layer of argument
+//! parsing on top of it (see `src/commands/`).
+
+pub mod block;
+pub mod classify;
+pub mod cluster;
+pub mod compare;
+pub mod error;
+pub mod evaluate;
+pub mod keys;
+pub mod model;
+pub mod output;
+pub mod pipeline;
+pub mod record;
+pub mod sources;
+pub mod spec;
+pub mod standardize;
+pub mod synth;
+pub mod util;
+
+pub use error::{Error, Result};

@@ -1,0 +1,1 @@
+//! Stage `model` (being written).

@@ -1,0 +1,1 @@
+//! Stage `output` (being written).

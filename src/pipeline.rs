@@ -1,0 +1,1 @@
+//! Orchestration of the pipeline stages (being written).

@@ -1,0 +1,1 @@
+//! Stage `sources` (being written).

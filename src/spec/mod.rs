@@ -1,0 +1,1 @@
+//! Stage `spec` (being written).
