@@ -53,7 +53,7 @@ pub enum Error {
         limit: u64,
     },
     /// Reading or writing a file failed.
-    #[error("`{path}`: {source}")]
+    #[error("`{path}`")]
     Io {
         /// File involved.
         path: PathBuf,
@@ -62,7 +62,7 @@ pub enum Error {
         source: std::io::Error,
     },
     /// A CSV file could not be read or written.
-    #[error("`{path}`: {source}")]
+    #[error("`{path}`")]
     Csv {
         /// File involved.
         path: PathBuf,
@@ -96,16 +96,30 @@ impl Error {
 
     /// Wrap an I/O error with the path it happened on.
     pub fn io(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
-        Error::Io { path: path.into(), source }
+        Error::Io {
+            path: path.into(),
+            source,
+        }
     }
 
     /// Shorthand for a spec error.
-    pub fn spec(file: impl Into<PathBuf>, key: impl Into<String>, message: impl Into<String>) -> Self {
-        Error::Spec { file: file.into(), key: key.into(), message: message.into() }
+    pub fn spec(
+        file: impl Into<PathBuf>,
+        key: impl Into<String>,
+        message: impl Into<String>,
+    ) -> Self {
+        Error::Spec {
+            file: file.into(),
+            key: key.into(),
+            message: message.into(),
+        }
     }
 
     /// Shorthand for an input error.
     pub fn input(file: impl Into<PathBuf>, message: impl Into<String>) -> Self {
-        Error::Input { file: file.into(), message: message.into() }
+        Error::Input {
+            file: file.into(),
+            message: message.into(),
+        }
     }
 }

@@ -93,7 +93,11 @@ impl Attr {
 
     /// Comma-separated list of all names, for error messages.
     pub fn all_names() -> String {
-        Attr::ALL.iter().map(|a| a.name()).collect::<Vec<_>>().join(", ")
+        Attr::ALL
+            .iter()
+            .map(|a| a.name())
+            .collect::<Vec<_>>()
+            .join(", ")
     }
 
     /// Position in [`Attr::ALL`].
@@ -146,7 +150,11 @@ pub struct Column {
 
 impl Column {
     fn new() -> Self {
-        Column { ids: Vec::new(), dict: vec![String::new()], counts: vec![0] }
+        Column {
+            ids: Vec::new(),
+            dict: vec![String::new()],
+            counts: vec![0],
+        }
     }
 
     /// The value of record `row`, if present.

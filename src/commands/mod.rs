@@ -7,6 +7,7 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 
+pub mod evaluate;
 pub mod synth;
 
 /// Link customer records from several systems into stable customer keys.
@@ -25,6 +26,8 @@ pub struct Cli {
 pub enum Command {
     /// Generate multi-source customer data with ground truth (invented scenario).
     Synth(synth::Args),
+    /// Score a crosswalk (and candidate pairs) against a truth file.
+    Evaluate(evaluate::Args),
 }
 
 /// Options every subcommand sees.
@@ -59,7 +62,11 @@ impl From<ExitStatus> for ExitCode {
 pub fn status_of(err: &anyhow::Error) -> ExitStatus {
     for cause in err.chain() {
         if let Some(e) = cause.downcast_ref::<kinlink::Error>() {
-            return if e.is_bad_input() { ExitStatus::BadInput } else { ExitStatus::Failure };
+            return if e.is_bad_input() {
+                ExitStatus::BadInput
+            } else {
+                ExitStatus::Failure
+            };
         }
         if cause.downcast_ref::<clap::Error>().is_some() {
             return ExitStatus::BadInput;
@@ -73,7 +80,11 @@ pub fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
         Ok(c) => c,
         Err(e) => {
-            let code = if e.use_stderr() { ExitStatus::BadInput } else { ExitStatus::Success };
+            let code = if e.use_stderr() {
+                ExitStatus::BadInput
+            } else {
+                ExitStatus::Success
+            };
             let _ = e.print();
             return code.into();
         }
@@ -81,6 +92,7 @@ pub fn main() -> ExitCode {
     let global = Global { quiet: cli.quiet };
     let result = match &cli.command {
         Command::Synth(a) => synth::run(a, global),
+        Command::Evaluate(a) => evaluate::run(a, global),
     };
     match result {
         Ok(()) => ExitStatus::Success.into(),
@@ -103,7 +115,7 @@ pub fn main() -> ExitCode {
 
 /// A hint attached to the error chain with [`Hint`], if any.
 fn hint_for(err: &anyhow::Error) -> Option<String> {
-    err.chain().find_map(|c| c.downcast_ref::<Hint>().map(|h| h.0.clone()))
+    err.downcast_ref::<Hint>().map(|h| h.0.clone())
 }
 
 /// A `hint:` line to print after an error; attach with `.context(Hint(..))`.

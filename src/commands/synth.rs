@@ -17,6 +17,7 @@ pub struct Args {
 }
 
 /// Run `kinlink synth`.
-pub fn run(_args: &Args, _global: Global) -> anyhow::Result<()> {
+pub fn run(_args: &Args, global: Global) -> anyhow::Result<()> {
+    let _ = global.quiet;
     anyhow::bail!("`kinlink synth` is being written")
 }

@@ -1,1 +1,3 @@
-//! Stage `compare` (being written).
+//! Compare: pairs of records in, agreement levels per attribute out.
+
+pub mod strings;

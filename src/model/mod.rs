@@ -1,1 +1,3 @@
-//! Stage `model` (being written).
+//! Model: comparison vectors in, Fellegi–Sunter parameters (λ, m, u) out.
+
+pub mod em;

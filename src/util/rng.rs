@@ -14,7 +14,9 @@ pub struct Rng {
 impl Rng {
     /// A generator for `seed`.
     pub fn new(seed: u64) -> Self {
-        Rng { state: seed ^ 0x9E37_79B9_7F4A_7C15 }
+        Rng {
+            state: seed ^ 0x9E37_79B9_7F4A_7C15,
+        }
     }
 
     /// Next 64 random bits.
@@ -64,10 +66,12 @@ mod tests {
 
     #[test]
     fn deterministic_for_a_seed() {
-        let a: Vec<u64> = (0..5).map({
-            let mut r = Rng::new(7);
-            move |_| r.next_u64()
-        }).collect();
+        let a: Vec<u64> = (0..5)
+            .map({
+                let mut r = Rng::new(7);
+                move |_| r.next_u64()
+            })
+            .collect();
         let mut r = Rng::new(7);
         let b: Vec<u64> = (0..5).map(|_| r.next_u64()).collect();
         assert_eq!(a, b);

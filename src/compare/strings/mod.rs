@@ -1,0 +1,1 @@
+//! String similarity kernels (being written).

@@ -1,0 +1,1 @@
+//! Expectation–maximisation for the Fellegi–Sunter model (being written).
