@@ -43,7 +43,9 @@ pub enum Error {
     #[error("{0}")]
     Usage(String),
     /// A blocking key would produce too many candidate pairs.
-    #[error("blocking key `{key}` would produce about {pairs} candidate pairs (limit {limit})")]
+    #[error(
+        "blocking key `{key}` would produce {pairs} candidate pairs (limit {limit}); {detail}"
+    )]
     BlockTooLarge {
         /// Name of the blocking key.
         key: String,
@@ -51,6 +53,8 @@ pub enum Error {
         pairs: u64,
         /// Configured limit.
         limit: u64,
+        /// The largest blocks and how to tighten the key.
+        detail: String,
     },
     /// Reading or writing a file failed.
     #[error("`{path}`")]

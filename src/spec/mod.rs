@@ -176,7 +176,7 @@ impl CompareSpec {
 }
 
 /// A function applied to an attribute to make part of a blocking key.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum KeyFn {
     /// The standardized value itself.
     Value,
@@ -191,7 +191,7 @@ pub enum KeyFn {
 }
 
 /// One part of a blocking key.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub struct KeyPart {
     /// The function.
     pub func: KeyFn,
