@@ -1,1 +1,224 @@
-//! Stage `cluster` (being written).
+//! Cluster: matched pairs in, a partition of the records into customers out.
+//!
+//! Matched pairs are merged with union-find in descending weight order (ties broken by
+//! record indexes), so the result does not depend on the order the pairs arrive in or on
+//! the thread count. Guards can refuse a merge: a maximum cluster size and "at most one
+//! record per source" for sources known to be free of duplicates. A refused merge is
+//! recorded so that a person can look at it. Without guards this is plain transitive
+//! closure.
+
+/// Rules a merge must not break.
+#[derive(Debug, Clone, Default)]
+pub struct Guards {
+    /// Largest allowed cluster (records); `None` for no limit.
+    pub max_size: Option<usize>,
+    /// Per source index, true when the source holds at most one record per customer.
+    pub one_per_source: Vec<bool>,
+}
+
+/// A matched pair offered to the clustering.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Edge {
+    /// First record.
+    pub a: u32,
+    /// Second record.
+    pub b: u32,
+    /// Match weight; stronger edges merge first.
+    pub weight: f64,
+}
+
+/// Why a merge was refused.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Refusal {
+    /// The merged cluster would exceed the maximum size.
+    TooLarge,
+    /// Both clusters hold a record of a source that allows one record per customer.
+    SameSource,
+}
+
+/// The outcome of clustering.
+#[derive(Debug, Clone)]
+pub struct Clusters {
+    /// Per record, its cluster's representative: the smallest record index in it.
+    pub label: Vec<u32>,
+    /// Edges that were refused, with the reason, in the order they were tried.
+    pub refused: Vec<(Edge, Refusal)>,
+}
+
+impl Clusters {
+    /// Number of clusters.
+    pub fn count(&self) -> usize {
+        self.label
+            .iter()
+            .enumerate()
+            .filter(|(i, &l)| *i as u32 == l)
+            .count()
+    }
+}
+
+struct UnionFind {
+    parent: Vec<u32>,
+    size: Vec<u32>,
+    /// Bit `s` set when the cluster holds a record of guarded source `s` (first 64).
+    sources: Vec<u64>,
+}
+
+impl UnionFind {
+    fn find(&mut self, mut x: u32) -> u32 {
+        while self.parent[x as usize] != x {
+            let p = self.parent[x as usize];
+            self.parent[x as usize] = self.parent[p as usize];
+            x = p;
+        }
+        x
+    }
+}
+
+/// Cluster `n` records from matched `edges`; `source_of` gives each record's source index.
+pub fn cluster(n: usize, edges: &[Edge], source_of: &[u16], guards: &Guards) -> Clusters {
+    let mut order: Vec<usize> = (0..edges.len()).collect();
+    order.sort_by(|&x, &y| {
+        let (e, f) = (&edges[x], &edges[y]);
+        f.weight
+            .total_cmp(&e.weight)
+            .then(e.a.min(e.b).cmp(&f.a.min(f.b)))
+            .then(e.a.max(e.b).cmp(&f.a.max(f.b)))
+    });
+    let guarded = |s: u16| {
+        guards
+            .one_per_source
+            .get(s as usize)
+            .copied()
+            .unwrap_or(false)
+            && s < 64
+    };
+    let mut uf = UnionFind {
+        parent: (0..n as u32).collect(),
+        size: vec![1; n],
+        sources: (0..n)
+            .map(|r| {
+                let s = source_of[r];
+                if guarded(s) {
+                    1u64 << s
+                } else {
+                    0
+                }
+            })
+            .collect(),
+    };
+    let mut refused = Vec::new();
+    for &i in &order {
+        let e = edges[i];
+        let (ra, rb) = (uf.find(e.a), uf.find(e.b));
+        if ra == rb {
+            continue;
+        }
+        let size = uf.size[ra as usize] + uf.size[rb as usize];
+        if guards.max_size.is_some_and(|m| size as usize > m) {
+            refused.push((e, Refusal::TooLarge));
+            continue;
+        }
+        if uf.sources[ra as usize] & uf.sources[rb as usize] != 0 {
+            refused.push((e, Refusal::SameSource));
+            continue;
+        }
+        // Union by size; the representative is fixed afterwards.
+        let (big, small) = if uf.size[ra as usize] >= uf.size[rb as usize] {
+            (ra, rb)
+        } else {
+            (rb, ra)
+        };
+        uf.parent[small as usize] = big;
+        uf.size[big as usize] = size;
+        uf.sources[big as usize] |= uf.sources[small as usize];
+    }
+    // Label = smallest record index of the cluster.
+    let mut smallest = vec![u32::MAX; n];
+    let roots: Vec<u32> = (0..n as u32).map(|r| uf.find(r)).collect();
+    for (r, &root) in roots.iter().enumerate() {
+        let s = &mut smallest[root as usize];
+        *s = (*s).min(r as u32);
+    }
+    let label = roots.iter().map(|&root| smallest[root as usize]).collect();
+    Clusters { label, refused }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn e(a: u32, b: u32, weight: f64) -> Edge {
+        Edge { a, b, weight }
+    }
+
+    #[test]
+    fn transitive_closure_without_guards() {
+        let c = cluster(
+            6,
+            &[e(0, 1, 5.0), e(1, 2, 3.0), e(4, 5, 9.0)],
+            &[0; 6],
+            &Guards::default(),
+        );
+        assert_eq!(c.label, vec![0, 0, 0, 3, 4, 4]);
+        assert_eq!(c.count(), 3);
+        assert!(c.refused.is_empty());
+    }
+
+    #[test]
+    fn guards_refuse_weak_bridges() {
+        // Two strong pairs bridged by a weak edge; max size 2 refuses the bridge.
+        let edges = [e(0, 1, 20.0), e(2, 3, 20.0), e(1, 2, 4.0)];
+        let g = Guards {
+            max_size: Some(2),
+            ..Default::default()
+        };
+        let c = cluster(4, &edges, &[0; 4], &g);
+        assert_eq!(c.label, vec![0, 0, 2, 2]);
+        assert_eq!(c.refused, vec![(edges[2], Refusal::TooLarge)]);
+        // One record per source 0: records 0 and 2 are both from source 0.
+        let g = Guards {
+            one_per_source: vec![true, false],
+            ..Default::default()
+        };
+        let c = cluster(4, &edges, &[0, 1, 0, 1], &g);
+        assert_eq!(c.label, vec![0, 0, 2, 2]);
+        assert_eq!(c.refused[0].1, Refusal::SameSource);
+    }
+
+    proptest! {
+        #[test]
+        fn partition_is_independent_of_edge_order(
+            raw in proptest::collection::vec((0u32..30, 0u32..30, 0u32..5), 0..60),
+            max in 1usize..8,
+            seed in any::<u64>(),
+        ) {
+            let edges: Vec<Edge> = raw.iter().map(|&(a, b, w)| e(a, b, w as f64)).collect();
+            let sources: Vec<u16> = (0..30).map(|r| (r % 3) as u16).collect();
+            let g = Guards { max_size: Some(max), one_per_source: vec![true, false, false] };
+            let c1 = cluster(30, &edges, &sources, &g);
+            let mut shuffled = edges.clone();
+            let mut rng = crate::util::Rng::new(seed);
+            for i in (1..shuffled.len()).rev() {
+                let j = rng.below(i as u64 + 1) as usize;
+                shuffled.swap(i, j);
+                let s = &mut shuffled[i];
+                std::mem::swap(&mut s.a, &mut s.b);
+            }
+            let c2 = cluster(30, &shuffled, &sources, &g);
+            prop_assert_eq!(&c1.label, &c2.label);
+            // Guards hold: size and one record of source 0 per cluster.
+            let mut size = std::collections::HashMap::new();
+            let mut src0 = std::collections::HashMap::new();
+            for (r, &l) in c1.label.iter().enumerate() {
+                *size.entry(l).or_insert(0usize) += 1;
+                if sources[r] == 0 {
+                    *src0.entry(l).or_insert(0usize) += 1;
+                }
+                prop_assert!(c1.label[l as usize] == l && l as usize <= r);
+            }
+            prop_assert!(size.values().all(|&s| s <= max));
+            prop_assert!(src0.values().all(|&s| s <= 1));
+        }
+    }
+}
