@@ -1,1 +1,535 @@
-//! Orchestration of the pipeline stages (being written).
+//! Pipeline: a spec in, a finished run (outputs on disk and a [`RunSummary`]) out.
+//!
+//! Stages: sources (read + standardize) → block → compare → model (fit by EM, or load)
+//! → classify → cluster → keys → output. Candidate pairs are never stored as a whole:
+//! a first pass over the blocks only counts comparison vectors per blocking key (for
+//! EM), a second pass scores every pair and keeps the matched and review pairs. Both
+//! passes run block tasks in parallel and combine per-chunk results in a fixed order,
+//! so the outputs do not depend on the number of threads.
+
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
+
+use rayon::prelude::*;
+
+use crate::block::{Blocking, Task};
+use crate::classify::{Classifier, Decision};
+use crate::cluster::{cluster, Edge, Guards};
+use crate::compare::{Comparison, Gamma, MISSING_LEVEL};
+use crate::error::{Error, Result};
+use crate::model::{self, em::PatternCounts, KeyCounts, Model};
+use crate::output::{push_field, write_rejects, Staging};
+use crate::record::RecordTable;
+use crate::sources::{self, SourceReport};
+use crate::spec::Spec;
+use crate::standardize::StdStats;
+
+/// Which scored pairs go to `pairs.csv`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum PairsOutput {
+    /// Every candidate pair, whatever its decision.
+    #[default]
+    All,
+    /// Only pairs decided `match` or `review`.
+    Linked,
+}
+
+/// How to run.
+#[derive(Debug, Clone, Default)]
+pub struct RunOptions {
+    /// Output folder.
+    pub out: PathBuf,
+    /// Use this fitted model instead of fitting one.
+    pub model: Option<PathBuf>,
+    /// Which pairs to write.
+    pub pairs: PairsOutput,
+}
+
+/// Candidate pairs of one blocking key.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct KeySummary {
+    /// Key name.
+    pub name: String,
+    /// Pairs inside the key's blocks.
+    pub raw_pairs: u64,
+    /// Pairs first produced by this key (compared).
+    pub new_pairs: u64,
+    /// Number of blocks.
+    pub blocks: usize,
+    /// Largest block size.
+    pub largest_block: usize,
+}
+
+/// Time spent per stage.
+#[derive(Debug, Clone, Default)]
+pub struct Timings {
+    /// (stage, wall time), in order.
+    pub stages: Vec<(&'static str, Duration)>,
+}
+
+impl Timings {
+    fn record(&mut self, stage: &'static str, since: Instant) -> Instant {
+        self.stages.push((stage, since.elapsed()));
+        Instant::now()
+    }
+}
+
+/// What a run did.
+#[derive(Debug, Clone)]
+pub struct RunSummary {
+    /// Per source: rows read, accepted, rejected.
+    pub sources: Vec<SourceReport>,
+    /// Standardization counts.
+    pub std_stats: StdStats,
+    /// Records linked.
+    pub records: usize,
+    /// Per blocking key.
+    pub keys: Vec<KeySummary>,
+    /// The model used.
+    pub model: Model,
+    /// True when the model was fitted in this run (false: loaded with `--model`).
+    pub fitted: bool,
+    /// The classifier's weight thresholds.
+    pub classifier: Classifier,
+    /// Pairs per decision: match, review, non-match.
+    pub decisions: [u64; 3],
+    /// Customers (clusters) found.
+    pub customers: usize,
+    /// Merges refused by the clustering guards.
+    pub refused_merges: usize,
+    /// Files written.
+    pub outputs: Vec<PathBuf>,
+    /// Wall time per stage.
+    pub timings: Timings,
+}
+
+impl RunSummary {
+    /// All candidate pairs compared.
+    pub fn candidate_pairs(&self) -> u64 {
+        self.keys.iter().map(|k| k.new_pairs).sum()
+    }
+}
+
+/// Cut tasks into this many chunks per thread for load balance.
+const CHUNKS_PER_THREAD: usize = 16;
+
+fn chunks(tasks: &[Task]) -> Vec<&[Task]> {
+    let want = rayon::current_num_threads().max(1) * CHUNKS_PER_THREAD;
+    let size = tasks.len().div_ceil(want.max(1)).max(1);
+    // Chunk size is fixed by the thread count, but results are combined in task order,
+    // so the outcome is the same for any chunking.
+    tasks.chunks(size).collect()
+}
+
+/// Run the whole pipeline and write the outputs.
+pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
+    let mut t = Timings::default();
+    let mut clock = Instant::now();
+    // Load the model first: a bad model file should fail before the heavy work.
+    let loaded_model = match &opts.model {
+        Some(p) => Some(Model::load(p, spec)?),
+        None => None,
+    };
+    let loaded = sources::load(spec)?;
+    let table = loaded.table;
+    if table.len() < 2 {
+        return Err(Error::Usage(format!(
+            "only {} usable record(s) were read; linking needs at least two (see rejects)",
+            table.len()
+        )));
+    }
+    clock = t.record("read + standardize", clock);
+
+    let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
+    let comparison = Comparison::new(&spec.compares, &table);
+    let tasks = blocking.tasks();
+    clock = t.record("block", clock);
+
+    let (model, fitted) = match loaded_model {
+        Some(m) => (m, false),
+        None => {
+            let counts = count_patterns(spec, &table, &blocking, &comparison, &tasks)?;
+            clock = t.record("compare (count vectors)", clock);
+            let (u, u_pairs) = model::estimate_u(
+                &table,
+                &comparison,
+                spec.model.u_sample_pairs,
+                spec.model.seed,
+            );
+            let m = model::fit(spec, &comparison, table.len() as u64, &counts, u, u_pairs)?;
+            clock = t.record("fit (EM)", clock);
+            (m, true)
+        }
+    };
+    let classifier = Classifier::new(spec.classify.thresholds, model.lambda);
+
+    let mut staging = Staging::new(&opts.out)?;
+    let scored = score(
+        &table,
+        &blocking,
+        &comparison,
+        &model,
+        &classifier,
+        &tasks,
+        opts.pairs,
+        &mut staging,
+    )?;
+    clock = t.record("score + write pairs", clock);
+
+    let edges: Vec<Edge> = scored
+        .linked
+        .iter()
+        .filter(|p| p.decision == Decision::Match)
+        .map(|p| Edge {
+            a: p.a,
+            b: p.b,
+            weight: p.weight,
+        })
+        .collect();
+    let clusters = cluster(table.len(), &edges, &table.source, &Guards::default());
+    let keys = crate::keys::assign(&table, &clusters.label);
+    clock = t.record("cluster + keys", clock);
+
+    let mut w = staging.csv("crosswalk.csv")?;
+    w.row(&["source", "source_id", "customer_key"])?;
+    for (r, key) in keys.iter().enumerate() {
+        w.row(&[table.source_name(r), table.id[r].as_str(), key.as_str()])?;
+    }
+    w.finish()?;
+    write_review(
+        &mut staging,
+        &table,
+        &comparison,
+        &model,
+        &classifier,
+        &scored.linked,
+    )?;
+    let mut w = staging.csv("rejects.csv")?;
+    write_rejects(&mut w, &loaded.rejects)?;
+    w.finish()?;
+    let model_path = staging.path("model.toml");
+    model.save(&model_path)?;
+    let outputs = staging.commit()?;
+    t.record("write outputs", clock);
+
+    let keys_summary = blocking
+        .keys
+        .iter()
+        .zip(&scored.per_key)
+        .map(|(kb, &new_pairs)| KeySummary {
+            name: kb.name.clone(),
+            raw_pairs: kb.raw_pairs(),
+            new_pairs,
+            blocks: kb.len(),
+            largest_block: kb.largest(1).first().map_or(0, |x| x.1),
+        })
+        .collect();
+    Ok(RunSummary {
+        sources: loaded.reports,
+        std_stats: loaded.stats,
+        records: table.len(),
+        keys: keys_summary,
+        model,
+        fitted,
+        classifier,
+        decisions: scored.decisions,
+        customers: clusters.count(),
+        refused_merges: clusters.refused.len(),
+        outputs,
+        timings: t,
+    })
+}
+
+/// Pass 1: comparison vector counts per blocking key.
+fn count_patterns(
+    spec: &Spec,
+    table: &RecordTable,
+    blocking: &Blocking,
+    comparison: &Comparison,
+    tasks: &[Task],
+) -> Result<Vec<KeyCounts>> {
+    let n_levels = comparison.n_levels();
+    let n_keys = blocking.keys.len();
+    let k = comparison.len();
+    let parts: Vec<Result<Vec<PatternCounts>>> = chunks(tasks)
+        .into_par_iter()
+        .map(|chunk| {
+            let mut counts: Vec<PatternCounts> = (0..n_keys)
+                .map(|_| PatternCounts::new(n_levels.clone()))
+                .collect();
+            let mut scratch = comparison.scratch();
+            for task in chunk {
+                let c = &mut counts[task.key];
+                let mut err = Ok(());
+                blocking.for_each_pair(task, |a, b| {
+                    let g = comparison.gamma(table, a, b, &mut scratch);
+                    if let Err(e) = c.add(&g[..k], 1) {
+                        err = Err(e);
+                    }
+                });
+                err?;
+            }
+            Ok(counts)
+        })
+        .collect();
+    let mut total: Vec<PatternCounts> = (0..n_keys)
+        .map(|_| PatternCounts::new(n_levels.clone()))
+        .collect();
+    for part in parts {
+        for (t, p) in total.iter_mut().zip(part?) {
+            t.merge(p)?;
+        }
+    }
+    Ok(spec
+        .blocks
+        .iter()
+        .zip(total)
+        .map(|(b, counts)| {
+            let key_attrs: Vec<_> = b.keys.iter().map(|p| p.attr).collect();
+            KeyCounts {
+                name: b.name.clone(),
+                excluded: comparison
+                    .comparators
+                    .iter()
+                    .map(|c| key_attrs.contains(&c.attr))
+                    .collect(),
+                counts,
+            }
+        })
+        .collect())
+}
+
+/// A pair kept after scoring (match or review).
+#[derive(Debug, Clone)]
+struct Linked {
+    a: u32,
+    b: u32,
+    weight: f64,
+    decision: Decision,
+    gamma: Gamma,
+}
+
+/// One chunk's share of pass 2.
+struct ChunkScore {
+    text: String,
+    linked: Vec<Linked>,
+    per_key: Vec<u64>,
+    decisions: [u64; 3],
+}
+
+struct Scored {
+    linked: Vec<Linked>,
+    per_key: Vec<u64>,
+    decisions: [u64; 3],
+}
+
+/// Pass 2: score every candidate pair, write `pairs.csv`, keep linked pairs.
+#[allow(clippy::too_many_arguments)]
+fn score(
+    table: &RecordTable,
+    blocking: &Blocking,
+    comparison: &Comparison,
+    model: &Model,
+    classifier: &Classifier,
+    tasks: &[Task],
+    which: PairsOutput,
+    staging: &mut Staging,
+) -> Result<Scored> {
+    let weights = model.weights();
+    let mut out = staging.csv("pairs.csv")?;
+    let mut header =
+        String::from("source_a,id_a,source_b,id_b,match_weight,match_probability,decision");
+    for c in &comparison.comparators {
+        header.push_str(&format!(",{0},{0}_weight", c.attr.name()));
+    }
+    header.push('\n');
+    out.raw(header.as_bytes())?;
+
+    let mut result = Scored {
+        linked: Vec::new(),
+        per_key: vec![0; blocking.keys.len()],
+        decisions: [0; 3],
+    };
+    let all_chunks = chunks(tasks);
+    // Waves bound the memory held by CSV text waiting to be written in order.
+    let wave = rayon::current_num_threads().max(1) * 4;
+    for group in all_chunks.chunks(wave) {
+        let parts: Vec<ChunkScore> = group
+            .par_iter()
+            .map(|chunk| {
+                let mut text = String::new();
+                let mut linked = Vec::new();
+                let mut per_key = vec![0u64; blocking.keys.len()];
+                let mut decisions = [0u64; 3];
+                let mut scratch = comparison.scratch();
+                for task in chunk.iter() {
+                    blocking.for_each_pair(task, |a, b| {
+                        per_key[task.key] += 1;
+                        let g = comparison.gamma(table, a, b, &mut scratch);
+                        let w = model::weight_of(&weights, &g);
+                        let d = classifier.decide(w);
+                        decisions[d as usize] += 1;
+                        if which == PairsOutput::All || d != Decision::NonMatch {
+                            pair_line(
+                                &mut text, table, comparison, &weights, classifier, a, b, w, d, &g,
+                            );
+                        }
+                        if d != Decision::NonMatch {
+                            linked.push(Linked {
+                                a,
+                                b,
+                                weight: w,
+                                decision: d,
+                                gamma: g,
+                            });
+                        }
+                    });
+                }
+                ChunkScore {
+                    text,
+                    linked,
+                    per_key,
+                    decisions,
+                }
+            })
+            .collect();
+        for ChunkScore {
+            text,
+            linked,
+            per_key,
+            decisions,
+        } in parts
+        {
+            out.raw(text.as_bytes())?;
+            result.linked.extend(linked);
+            for (t, p) in result.per_key.iter_mut().zip(per_key) {
+                *t += p;
+            }
+            for (t, d) in result.decisions.iter_mut().zip(decisions) {
+                *t += d;
+            }
+        }
+    }
+    out.finish()?;
+    Ok(result)
+}
+
+#[allow(clippy::too_many_arguments)]
+fn pair_line(
+    text: &mut String,
+    table: &RecordTable,
+    comparison: &Comparison,
+    weights: &[Vec<f64>],
+    classifier: &Classifier,
+    a: u32,
+    b: u32,
+    w: f64,
+    d: Decision,
+    g: &Gamma,
+) {
+    use std::fmt::Write;
+    let (a, b) = (a as usize, b as usize);
+    push_field(text, table.source_name(a));
+    text.push(',');
+    push_field(text, &table.id[a]);
+    text.push(',');
+    push_field(text, table.source_name(b));
+    text.push(',');
+    push_field(text, &table.id[b]);
+    let _ = write!(
+        text,
+        ",{:.4},{:.6},{}",
+        w,
+        classifier.probability(w),
+        d.name()
+    );
+    for (k, c) in comparison.comparators.iter().enumerate() {
+        text.push(',');
+        push_field(text, c.level_name(g[k]));
+        let wk = if g[k] == MISSING_LEVEL {
+            0.0
+        } else {
+            weights[k][g[k] as usize]
+        };
+        let _ = write!(text, ",{wk:.4}");
+    }
+    text.push('\n');
+}
+
+/// `review.csv`: the review pairs with the values compared, strongest first.
+fn write_review(
+    staging: &mut Staging,
+    table: &RecordTable,
+    comparison: &Comparison,
+    model: &Model,
+    classifier: &Classifier,
+    linked: &[Linked],
+) -> Result<()> {
+    let weights = model.weights();
+    let mut w = staging.csv("review.csv")?;
+    let mut header: Vec<String> = [
+        "source_a",
+        "id_a",
+        "source_b",
+        "id_b",
+        "match_weight",
+        "match_probability",
+        "decision",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
+    for c in &comparison.comparators {
+        let n = c.attr.name();
+        header.extend([
+            n.to_string(),
+            format!("{n}_weight"),
+            format!("{n}_a"),
+            format!("{n}_b"),
+        ]);
+    }
+    w.row(&header)?;
+    let mut review: Vec<&Linked> = linked
+        .iter()
+        .filter(|p| p.decision == Decision::Review)
+        .collect();
+    review.sort_by(|x, y| {
+        y.weight
+            .total_cmp(&x.weight)
+            .then(x.a.cmp(&y.a))
+            .then(x.b.cmp(&y.b))
+    });
+    for p in review {
+        let (a, b) = (p.a as usize, p.b as usize);
+        let mut row: Vec<String> = vec![
+            table.source_name(a).to_string(),
+            table.id[a].clone(),
+            table.source_name(b).to_string(),
+            table.id[b].clone(),
+            format!("{:.4}", p.weight),
+            format!("{:.6}", classifier.probability(p.weight)),
+            p.decision.name().to_string(),
+        ];
+        for (k, c) in comparison.comparators.iter().enumerate() {
+            let code = p.gamma[k];
+            let wk = if code == MISSING_LEVEL {
+                0.0
+            } else {
+                weights[k][code as usize]
+            };
+            row.push(c.level_name(code).to_string());
+            row.push(format!("{wk:.4}"));
+            row.push(table.get(a, c.attr).unwrap_or("").to_string());
+            row.push(table.get(b, c.attr).unwrap_or("").to_string());
+        }
+        w.row(&row)?;
+    }
+    w.finish()
+}
+
+/// Read a spec and run it (convenience for commands and tests).
+pub fn run_spec(spec_path: &Path, opts: &RunOptions) -> Result<(Spec, RunSummary)> {
+    let spec = Spec::load(spec_path)?;
+    let summary = run(&spec, opts)?;
+    Ok((spec, summary))
+}

@@ -1,3 +1,421 @@
-//! Model: comparison vectors in, Fellegi–Sunter parameters (λ, m, u) out.
+//! Model: comparison vectors in, Fellegi–Sunter parameters (λ, m, u) and weights out.
+//!
+//! Fitting, with no labelled data:
+//! 1. **u** from random record pairs ([`estimate_u`]): almost all random pairs are
+//!    non-matches, so the share of each agreement level among them estimates u.
+//!    Laplace smoothing (one pseudo-count per level) keeps unseen levels above zero.
+//! 2. **m and λ** by EM ([`em`]) on the counts of distinct comparison vectors, once per
+//!    blocking key on the pairs that key produced. An attribute that is part of a key
+//!    always agrees on that key's pairs, so it is left out of that key's fit (its m
+//!    there would be biased towards 1). Each attribute's m is the average of its
+//!    per-key estimates weighted by the expected number of matches of the key
+//!    (λ_b × pairs_b); this follows the blocking-bias treatment of METHODS.md §6.
+//!    An attribute used by every key falls back to a fit on all candidate pairs.
+//! 3. **λ over all record pairs** = expected matches Σ λ_b pairs_b / (n(n−1)/2), the
+//!    prior that goes with u from random pairs.
+//!
+//! The weight of level `l` of attribute `k` is `log2(m_kl / u_kl)`; a missing value
+//! adds 0. The fitted [`Model`] is written as a readable TOML file tied to the spec by a
+//! fingerprint of the compared attributes and levels.
+
+use std::path::Path;
+
+use serde::{Deserialize, Serialize};
+
+use crate::compare::{Comparison, Gamma, MISSING_LEVEL};
+use crate::error::{Error, Result};
+use crate::record::RecordTable;
+use crate::spec::Spec;
+use crate::util::Rng;
 
 pub mod em;
+
+/// Version of the model file format written by this build.
+pub const MODEL_VERSION: u32 = 1;
+
+/// Pseudo-count per level for the u estimate from random pairs.
+pub const U_PSEUDO_COUNT: f64 = 1.0;
+
+/// Pseudo-count per level for the EM estimates of m (a Dirichlet(1 + s) prior).
+pub const M_SMOOTHING: f64 = 0.5;
+
+/// Parameters of one compared attribute.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct AttrModel {
+    /// Attribute name.
+    pub attribute: String,
+    /// Level names, best first, ending with `disagree`.
+    pub levels: Vec<String>,
+    /// P(level | match).
+    pub m: Vec<f64>,
+    /// P(level | non-match).
+    pub u: Vec<f64>,
+    /// log2(m / u) per level.
+    pub weight: Vec<f64>,
+}
+
+/// What the EM fit on one blocking key's pairs found.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BlockFit {
+    /// Blocking key name.
+    pub name: String,
+    /// Candidate pairs the key produced (after earlier keys).
+    pub pairs: u64,
+    /// Distinct comparison vectors among them.
+    pub patterns: u64,
+    /// Share of matches among the key's pairs.
+    pub lambda: f64,
+    /// Attributes left out of this fit because the key is built from them.
+    pub excluded: Vec<String>,
+    /// EM iterations.
+    pub iterations: usize,
+    /// Whether EM met its tolerance.
+    pub converged: bool,
+    /// Objective after each iteration.
+    pub loglik_trace: Vec<f64>,
+}
+
+/// A fitted model.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Model {
+    /// Always `kinlink-model`.
+    pub format: String,
+    /// File format version.
+    pub version: u32,
+    /// Fingerprint of the spec's compared attributes and levels.
+    pub spec_fingerprint: String,
+    /// The compared attributes and levels, as text (to name differences).
+    pub spec_layout: String,
+    /// Match prior over all record pairs.
+    pub lambda: f64,
+    /// Records the model was fitted on.
+    pub records: u64,
+    /// Candidate pairs the model was fitted on.
+    pub candidate_pairs: u64,
+    /// Expected true matches among the candidate pairs.
+    pub expected_matches: f64,
+    /// Random record pairs used for u.
+    pub u_sample_pairs: u64,
+    /// Per attribute parameters, in spec order.
+    pub attribute: Vec<AttrModel>,
+    /// Per blocking key fits.
+    pub block: Vec<BlockFit>,
+}
+
+impl Model {
+    /// Weight tables indexed `[attribute][level]`.
+    pub fn weights(&self) -> Vec<Vec<f64>> {
+        self.attribute.iter().map(|a| a.weight.clone()).collect()
+    }
+
+    /// Total EM iterations over all keys.
+    pub fn iterations(&self) -> usize {
+        self.block.iter().map(|b| b.iterations).sum()
+    }
+
+    /// Write the model as TOML to `path` (atomically: temp file, then rename).
+    pub fn save(&self, path: &Path) -> Result<()> {
+        let text = toml::to_string_pretty(self)
+            .map_err(|e| Error::Internal(format!("cannot serialize the model: {e}")))?;
+        let header =
+            "# kinlink fitted model: Fellegi–Sunter m/u per attribute level and the match\n\
+                      # prior. Weights are log2(m/u); a missing value adds 0.\n";
+        crate::output::write_atomic(path, format!("{header}{text}").as_bytes())
+    }
+
+    /// Read a model file and check it fits `spec`.
+    pub fn load(path: &Path, spec: &Spec) -> Result<Model> {
+        let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
+        let model: Model = toml::from_str(&text).map_err(|e| Error::Model {
+            file: path.to_path_buf(),
+            message: format!("not a readable model file: {}", e.message()),
+        })?;
+        let bad = |message: String| Error::Model {
+            file: path.to_path_buf(),
+            message,
+        };
+        if model.format != "kinlink-model" {
+            return Err(bad(format!(
+                "`format = {:?}`: expected \"kinlink-model\"",
+                model.format
+            )));
+        }
+        if model.version != MODEL_VERSION {
+            return Err(bad(format!(
+                "version {} is not supported; this build reads version {MODEL_VERSION}",
+                model.version
+            )));
+        }
+        if model.spec_fingerprint != spec.model_fingerprint() {
+            let theirs: Vec<&str> = model.spec_layout.lines().collect();
+            let ours = spec.model_layout();
+            let ours: Vec<&str> = ours.lines().collect();
+            let mut diffs: Vec<String> = Vec::new();
+            for l in &ours {
+                if !theirs.contains(l) {
+                    diffs.push(format!("the spec has `{l}`"));
+                }
+            }
+            for l in &theirs {
+                if !ours.contains(l) {
+                    diffs.push(format!("the model has `{l}`"));
+                }
+            }
+            if diffs.is_empty() {
+                diffs.push("the compared attributes are in a different order".into());
+            }
+            return Err(bad(format!(
+                "fitted on a different spec: {}; fit a new model with `kinlink train`",
+                diffs.join("; ")
+            )));
+        }
+        for a in &model.attribute {
+            let n = a.levels.len();
+            if a.m.len() != n || a.u.len() != n || a.weight.len() != n {
+                return Err(bad(format!(
+                    "attribute `{}`: m, u and weight must have one value per level ({n})",
+                    a.attribute
+                )));
+            }
+            if a.weight.iter().any(|w| !w.is_finite()) {
+                return Err(bad(format!(
+                    "attribute `{}`: weights must be finite",
+                    a.attribute
+                )));
+            }
+        }
+        if !(model.lambda > 0.0 && model.lambda < 1.0) {
+            return Err(bad(format!(
+                "lambda = {} must be between 0 and 1",
+                model.lambda
+            )));
+        }
+        Ok(model)
+    }
+}
+
+/// Match weight of a comparison vector.
+#[inline]
+pub fn weight_of(weights: &[Vec<f64>], gamma: &Gamma) -> f64 {
+    let mut w = 0.0;
+    for (k, row) in weights.iter().enumerate() {
+        let code = gamma[k];
+        if code != MISSING_LEVEL {
+            w += row[code as usize];
+        }
+    }
+    w
+}
+
+/// Level counts among random record pairs: `[attribute][level]`, and pairs drawn.
+pub fn estimate_u(
+    table: &RecordTable,
+    comparison: &Comparison,
+    sample: usize,
+    seed: u64,
+) -> (Vec<Vec<f64>>, u64) {
+    use rayon::prelude::*;
+    let n = table.len() as u64;
+    let all = n * n.saturating_sub(1) / 2;
+    let n_levels = comparison.n_levels();
+    let empty = || n_levels.iter().map(|&l| vec![0u64; l]).collect::<Vec<_>>();
+    let add = |counts: &mut Vec<Vec<u64>>, g: &Gamma| {
+        for (k, row) in counts.iter_mut().enumerate() {
+            if g[k] != MISSING_LEVEL {
+                row[g[k] as usize] += 1;
+            }
+        }
+    };
+    let (counts, drawn) = if all <= sample as u64 {
+        // Small data: every pair.
+        let mut counts = empty();
+        let mut scratch = comparison.scratch();
+        for a in 0..n as u32 {
+            for b in a + 1..n as u32 {
+                add(&mut counts, &comparison.gamma(table, a, b, &mut scratch));
+            }
+        }
+        (counts, all)
+    } else {
+        const CHUNK: usize = 8192;
+        let chunks = sample.div_ceil(CHUNK);
+        let parts: Vec<Vec<Vec<u64>>> = (0..chunks)
+            .into_par_iter()
+            .map(|c| {
+                let mut rng = Rng::new(seed ^ (c as u64).wrapping_mul(0x9E37_79B9_7F4A_7C15));
+                let mut counts = empty();
+                let mut scratch = comparison.scratch();
+                let todo = CHUNK.min(sample - c * CHUNK);
+                for _ in 0..todo {
+                    let a = rng.below(n) as u32;
+                    let mut b = rng.below(n - 1) as u32;
+                    if b >= a {
+                        b += 1;
+                    }
+                    add(&mut counts, &comparison.gamma(table, a, b, &mut scratch));
+                }
+                counts
+            })
+            .collect();
+        let mut counts = empty();
+        for p in parts {
+            for (row, prow) in counts.iter_mut().zip(p) {
+                for (x, y) in row.iter_mut().zip(prow) {
+                    *x += y;
+                }
+            }
+        }
+        (counts, sample as u64)
+    };
+    let u = counts
+        .iter()
+        .map(|row| {
+            let total: u64 = row.iter().sum();
+            let denom = total as f64 + U_PSEUDO_COUNT * row.len() as f64;
+            row.iter()
+                .map(|&c| (c as f64 + U_PSEUDO_COUNT) / denom)
+                .collect()
+        })
+        .collect();
+    (u, drawn)
+}
+
+/// Inputs of [`fit`] for one blocking key.
+#[derive(Debug)]
+pub struct KeyCounts {
+    /// Blocking key name.
+    pub name: String,
+    /// Per compared attribute, true when the key is built from it.
+    pub excluded: Vec<bool>,
+    /// Comparison vector counts of the key's pairs.
+    pub counts: em::PatternCounts,
+}
+
+/// Fit the model from per-key comparison vector counts and random-pair u.
+pub fn fit(
+    spec: &Spec,
+    comparison: &Comparison,
+    records: u64,
+    keys: &[KeyCounts],
+    u: Vec<Vec<f64>>,
+    u_pairs: u64,
+) -> Result<Model> {
+    let n_levels = comparison.n_levels();
+    let k_attrs = n_levels.len();
+    let opts = |active: Vec<bool>| em::EmOptions {
+        max_iterations: spec.model.max_iterations,
+        active: Some(active),
+        smoothing: M_SMOOTHING,
+        ..em::EmOptions::default()
+    };
+    let mut blocks = Vec::new();
+    let mut m_sum = vec![vec![0.0; 0]; k_attrs];
+    for (k, row) in m_sum.iter_mut().enumerate() {
+        *row = vec![0.0; n_levels[k]];
+    }
+    let mut m_weight = vec![0.0f64; k_attrs];
+    let mut expected = 0.0;
+    let mut candidate_pairs = 0;
+    for key in keys {
+        let pairs = key.counts.total();
+        candidate_pairs += pairs;
+        let active: Vec<bool> = key.excluded.iter().map(|e| !e).collect();
+        let mut fit_info = BlockFit {
+            name: key.name.clone(),
+            pairs,
+            patterns: key.counts.len() as u64,
+            lambda: 0.0,
+            excluded: comparison
+                .comparators
+                .iter()
+                .zip(&key.excluded)
+                .filter(|(_, e)| **e)
+                .map(|(c, _)| c.attr.name().to_string())
+                .collect(),
+            iterations: 0,
+            converged: true,
+            loglik_trace: Vec::new(),
+        };
+        if pairs == 0 || !active.iter().any(|a| *a) {
+            blocks.push(fit_info);
+            continue;
+        }
+        let mut init = em::default_init(&n_levels, 0.1);
+        init.u = u.clone();
+        let f = em::fit(&key.counts, &init, &opts(active.clone()))?;
+        let lambda_b = f.params.lambda;
+        let matches = lambda_b * pairs as f64;
+        expected += matches;
+        for k in (0..k_attrs).filter(|&k| active[k]) {
+            for (s, m) in m_sum[k].iter_mut().zip(&f.params.m[k]) {
+                *s += matches * m;
+            }
+            m_weight[k] += matches;
+        }
+        fit_info.lambda = lambda_b;
+        fit_info.iterations = f.iterations;
+        fit_info.converged = f.converged;
+        fit_info.loglik_trace = f.loglik_trace;
+        blocks.push(fit_info);
+    }
+    if candidate_pairs == 0 {
+        return Err(Error::Usage(
+            "the blocking keys produced no candidate pairs, so there is nothing to fit; check \
+             that the key attributes are mapped and filled"
+                .into(),
+        ));
+    }
+    // Attributes left out of every key's fit: fit them on all candidate pairs.
+    let missing: Vec<usize> = (0..k_attrs).filter(|&k| m_weight[k] <= 0.0).collect();
+    if !missing.is_empty() {
+        let mut all = em::PatternCounts::new(n_levels.clone());
+        for key in keys {
+            all.merge(key.counts.clone())?;
+        }
+        let mut init = em::default_init(&n_levels, 0.1);
+        init.u = u.clone();
+        let f = em::fit(&all, &init, &opts(vec![true; k_attrs]))?;
+        for &k in &missing {
+            m_sum[k] = f.params.m[k].clone();
+            m_weight[k] = 1.0;
+        }
+        if expected <= 0.0 {
+            expected = f.params.lambda * all.total() as f64;
+        }
+    }
+    let all_pairs = (records * records.saturating_sub(1) / 2).max(1) as f64;
+    let lambda = (expected / all_pairs).clamp(1e-12, 0.5);
+    let attribute = comparison
+        .comparators
+        .iter()
+        .enumerate()
+        .map(|(k, c)| {
+            let m: Vec<f64> = m_sum[k].iter().map(|s| s / m_weight[k]).collect();
+            let weight = m
+                .iter()
+                .zip(&u[k])
+                .map(|(m, u)| (m.max(1e-12) / u).log2())
+                .collect();
+            AttrModel {
+                attribute: c.attr.name().to_string(),
+                levels: c.names.clone(),
+                m,
+                u: u[k].clone(),
+                weight,
+            }
+        })
+        .collect();
+    Ok(Model {
+        format: "kinlink-model".into(),
+        version: MODEL_VERSION,
+        spec_fingerprint: spec.model_fingerprint(),
+        spec_layout: spec.model_layout(),
+        lambda,
+        records,
+        candidate_pairs,
+        expected_matches: expected,
+        u_sample_pairs: u_pairs,
+        attribute,
+        block: blocks,
+    })
+}
