@@ -527,6 +527,51 @@ fn write_review(
     w.finish()
 }
 
+/// What `train` did: the model and the work behind it.
+#[derive(Debug, Clone)]
+pub struct TrainSummary {
+    /// The fitted model.
+    pub model: Model,
+    /// Per source: rows read, accepted, rejected.
+    pub sources: Vec<SourceReport>,
+    /// Wall time per stage.
+    pub timings: Timings,
+}
+
+/// Fit a model on the spec's sources without scoring or writing outputs.
+pub fn train(spec: &Spec) -> Result<TrainSummary> {
+    let mut t = Timings::default();
+    let clock = Instant::now();
+    let loaded = sources::load(spec)?;
+    let table = loaded.table;
+    if table.len() < 2 {
+        return Err(Error::Usage(format!(
+            "only {} usable record(s) were read; fitting needs at least two",
+            table.len()
+        )));
+    }
+    let clock = t.record("read + standardize", clock);
+    let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
+    let comparison = Comparison::new(&spec.compares, &table);
+    let tasks = blocking.tasks();
+    let clock = t.record("block", clock);
+    let counts = count_patterns(spec, &table, &blocking, &comparison, &tasks)?;
+    let clock = t.record("compare (count vectors)", clock);
+    let (u, u_pairs) = model::estimate_u(
+        &table,
+        &comparison,
+        spec.model.u_sample_pairs,
+        spec.model.seed,
+    );
+    let model = model::fit(spec, &comparison, table.len() as u64, &counts, u, u_pairs)?;
+    t.record("fit (EM)", clock);
+    Ok(TrainSummary {
+        model,
+        sources: loaded.reports,
+        timings: t,
+    })
+}
+
 /// Read a spec and run it (convenience for commands and tests).
 pub fn run_spec(spec_path: &Path, opts: &RunOptions) -> Result<(Spec, RunSummary)> {
     let spec = Spec::load(spec_path)?;

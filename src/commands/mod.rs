@@ -7,8 +7,12 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 
+pub mod demo;
 pub mod evaluate;
+pub mod link;
+pub mod summary;
 pub mod synth;
+pub mod train;
 
 /// Link customer records from several systems into stable customer keys.
 #[derive(Debug, Parser)]
@@ -24,6 +28,12 @@ pub struct Cli {
 /// The subcommands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
+    /// Run the whole pipeline on the shipped demo data and evaluate it against its truth.
+    Demo(demo::Args),
+    /// Link the sources a spec names: crosswalk, pairs, review queue, rejects, model.
+    Link(link::Args),
+    /// Fit a model on the sources a spec names and save it, without linking.
+    Train(train::Args),
     /// Generate multi-source customer data with ground truth (invented scenario).
     Synth(synth::Args),
     /// Score a crosswalk (and candidate pairs) against a truth file.
@@ -91,6 +101,9 @@ pub fn main() -> ExitCode {
     };
     let global = Global { quiet: cli.quiet };
     let result = match &cli.command {
+        Command::Demo(a) => demo::run(a, global),
+        Command::Link(a) => link::run(a, global),
+        Command::Train(a) => train::run(a, global),
         Command::Synth(a) => synth::run(a, global),
         Command::Evaluate(a) => evaluate::run(a, global),
     };
@@ -104,8 +117,14 @@ pub fn main() -> ExitCode {
             }) {
                 return ExitStatus::Success.into();
             }
-            eprintln!("error: {err:#}");
-            if let Some(hint) = hint_for(&err) {
+            let hint = hint_for(&err);
+            let parts: Vec<String> = err
+                .chain()
+                .map(|c| c.to_string())
+                .filter(|m| hint.as_deref() != Some(m.as_str()))
+                .collect();
+            eprintln!("error: {}", parts.join(": "));
+            if let Some(hint) = hint {
                 eprintln!("\nhint: {hint}");
             }
             status_of(&err).into()

@@ -1,0 +1,41 @@
+//! `kinlink demo`: link the shipped demo data and score the result against its truth.
+
+use std::path::PathBuf;
+
+use kinlink::pipeline::{self, RunOptions};
+use kinlink::spec::Spec;
+
+use super::{summary, Global};
+
+/// Arguments of `kinlink demo`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// Folder with the demo data (spec.toml, the source CSVs, truth.csv).
+    #[arg(long, default_value = concat!(env!("CARGO_MANIFEST_DIR"), "/demo-data"))]
+    pub data: PathBuf,
+    /// Output folder.
+    #[arg(long, default_value = "kinlink-demo-out")]
+    pub out: PathBuf,
+    /// Print the time spent per stage.
+    #[arg(long)]
+    pub timings: bool,
+}
+
+/// Run `kinlink demo`.
+pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
+    let spec = Spec::load(&args.data.join("spec.toml"))?;
+    let opts = RunOptions {
+        out: args.out.clone(),
+        ..Default::default()
+    };
+    let summary = pipeline::run(&spec, &opts)?;
+    if !global.quiet {
+        println!(
+            "kinlink demo: invented customers of three systems, see {}\n",
+            args.data.display()
+        );
+        summary::print(&summary, args.timings);
+        println!("\nAll outputs are in {}", args.out.display());
+    }
+    Ok(())
+}

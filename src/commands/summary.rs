@@ -1,0 +1,108 @@
+//! The run summary printed by `link` and `demo`.
+
+use kinlink::pipeline::RunSummary;
+use kinlink::record::Attr;
+
+/// Print what a run did, in the order the stages ran.
+pub fn print(s: &RunSummary, timings: bool) {
+    println!("Sources");
+    println!(
+        "  {:<16} {:>10} {:>10} {:>10}",
+        "source", "rows", "records", "rejected"
+    );
+    for r in &s.sources {
+        println!(
+            "  {:<16} {:>10} {:>10} {:>10}",
+            r.name, r.rows, r.accepted, r.rejected
+        );
+    }
+    let rejected: u64 = s.sources.iter().map(|r| r.rejected).sum();
+    if rejected > 0 {
+        println!("  {rejected} row(s) rejected: see rejects.csv for line and reason");
+    }
+    let fixes: Vec<String> = Attr::ALL
+        .iter()
+        .filter_map(|a| {
+            let st = s.std_stats.attrs[a.index()];
+            (st.present > 0 && (st.repaired > 0 || st.invalid > 0))
+                .then(|| format!("{a}: {} repaired, {} invalid", st.repaired, st.invalid))
+        })
+        .collect();
+    if !fixes.is_empty() {
+        println!("  standardize: {}", fixes.join("; "));
+    }
+    println!("\nBlocking ({} records)", s.records);
+    println!(
+        "  {:<20} {:>12} {:>12} {:>8} {:>8}",
+        "key", "pairs", "new pairs", "blocks", "largest"
+    );
+    for k in &s.keys {
+        println!(
+            "  {:<20} {:>12} {:>12} {:>8} {:>8}",
+            k.name, k.raw_pairs, k.new_pairs, k.blocks, k.largest_block
+        );
+    }
+    let n = s.records as u64;
+    let all = n * n.saturating_sub(1) / 2;
+    let cand = s.candidate_pairs();
+    println!(
+        "  candidate pairs: {cand} of {all} record pairs (reduction ratio {:.6})",
+        1.0 - cand as f64 / all.max(1) as f64
+    );
+    println!("\nModel");
+    if s.fitted {
+        println!(
+            "  fitted by EM: match prior λ = {:.3e} over all pairs ({:.1} expected matches among \
+             candidates), {} EM iterations over {} key(s)",
+            s.model.lambda,
+            s.model.expected_matches,
+            s.model.iterations(),
+            s.model.block.len()
+        );
+        for b in &s.model.block {
+            let excluded = if b.excluded.is_empty() {
+                String::new()
+            } else {
+                format!(", without {}", b.excluded.join(", "))
+            };
+            println!(
+                "    {:<20} λ = {:.4}  iterations {:>3}{}{}",
+                b.name,
+                b.lambda,
+                b.iterations,
+                if b.converged { "" } else { " (not converged)" },
+                excluded
+            );
+        }
+    } else {
+        println!("  loaded: match prior λ = {:.3e}", s.model.lambda);
+    }
+    println!(
+        "  thresholds: match at weight ≥ {:.2}, review at weight ≥ {:.2}",
+        s.classifier.upper, s.classifier.lower
+    );
+    println!("\nDecisions");
+    println!(
+        "  match {}   review {}   non-match {}",
+        s.decisions[0], s.decisions[1], s.decisions[2]
+    );
+    println!(
+        "  customers found: {} (from {} records)",
+        s.customers, s.records
+    );
+    if s.refused_merges > 0 {
+        println!("  merges refused by guards: {}", s.refused_merges);
+    }
+    if timings {
+        println!("\nTimings");
+        for (stage, d) in &s.timings.stages {
+            println!("  {:<24} {:>9.3} s", stage, d.as_secs_f64());
+        }
+        let total: f64 = s.timings.stages.iter().map(|(_, d)| d.as_secs_f64()).sum();
+        println!("  {:<24} {:>9.3} s", "total", total);
+    }
+    println!("\nOutputs");
+    for p in &s.outputs {
+        println!("  {}", p.display());
+    }
+}

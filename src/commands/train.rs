@@ -1,0 +1,46 @@
+//! `kinlink train`: fit a model on the sources a spec names and save it.
+
+use std::path::PathBuf;
+
+use kinlink::pipeline;
+use kinlink::spec::Spec;
+
+use super::Global;
+
+/// Arguments of `kinlink train`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The linkage spec (TOML).
+    #[arg(long)]
+    pub spec: PathBuf,
+    /// Where to write the model file (TOML), e.g. models/mydata.toml.
+    #[arg(long)]
+    pub out: PathBuf,
+}
+
+/// Run `kinlink train`.
+pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
+    let spec = Spec::load(&args.spec)?;
+    let t = pipeline::train(&spec)?;
+    t.model.save(&args.out)?;
+    if !global.quiet {
+        let records: u64 = t.sources.iter().map(|s| s.accepted).sum();
+        println!(
+            "fitted on {records} records and {} candidate pairs: λ = {:.3e}, {} EM iterations",
+            t.model.candidate_pairs,
+            t.model.lambda,
+            t.model.iterations()
+        );
+        for a in &t.model.attribute {
+            let levels: Vec<String> = a
+                .levels
+                .iter()
+                .zip(&a.weight)
+                .map(|(l, w)| format!("{l} {w:+.2}"))
+                .collect();
+            println!("  {:<14} {}", a.attribute, levels.join(" | "));
+        }
+        println!("model written to {}", args.out.display());
+    }
+    Ok(())
+}
