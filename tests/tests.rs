@@ -1,1 +1,5 @@
 //! Integration tests: run the `kinlink` binary on small data.
+
+mod bad_input;
+mod common;
+mod link;

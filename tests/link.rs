@@ -1,0 +1,127 @@
+//! `kinlink link` and `kinlink train` on the small invented data.
+
+use crate::common::*;
+use std::collections::HashMap;
+
+fn link(
+    dir: &std::path::Path,
+    out: &str,
+    extra: &[&str],
+    threads: Option<usize>,
+) -> std::process::Output {
+    let spec = dir.join("spec.toml");
+    let out = dir.join(out);
+    let mut args = vec![
+        "link",
+        "--spec",
+        spec.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ];
+    args.extend_from_slice(extra);
+    run(&args, threads)
+}
+
+#[test]
+fn link_writes_the_output_contract() {
+    let dir = mini_copy();
+    let o = link(dir.path(), "out", &[], None);
+    let (stdout, stderr) = text(&o);
+    assert!(o.status.success(), "stderr: {stderr}");
+    assert!(stdout.contains("customers found"), "{stdout}");
+    let out = dir.path().join("out");
+    let cw = read_csv(&out.join("crosswalk.csv"));
+    assert_eq!(cw[0], ["source", "source_id", "customer_key"]);
+    assert_eq!(cw.len(), 21, "one row per record plus header");
+    let pairs = read_csv(&out.join("pairs.csv"));
+    assert_eq!(
+        pairs[0][..7],
+        [
+            "source_a",
+            "id_a",
+            "source_b",
+            "id_b",
+            "match_weight",
+            "match_probability",
+            "decision"
+        ]
+    );
+    assert!(pairs[0].contains(&"family_name".to_string()));
+    for row in &pairs[1..] {
+        assert!(
+            ["match", "review", "non_match"].contains(&row[6].as_str()),
+            "{row:?}"
+        );
+        let p: f64 = row[5].parse().unwrap();
+        assert!((0.0..=1.0).contains(&p));
+    }
+    assert_eq!(
+        read_csv(&out.join("rejects.csv"))[0],
+        ["source", "line", "reason"]
+    );
+    assert!(read_csv(&out.join("review.csv"))[0].len() > 7);
+    assert!(out.join("model.toml").exists());
+}
+
+fn crosswalk_map(path: &std::path::Path) -> HashMap<(String, String), String> {
+    read_csv(path)[1..]
+        .iter()
+        .map(|r| ((r[0].clone(), r[1].clone()), r[2].clone()))
+        .collect()
+}
+
+#[test]
+fn same_input_same_keys_for_any_thread_count_and_with_a_saved_model() {
+    let dir = mini_copy();
+    assert!(link(dir.path(), "a", &[], Some(1)).status.success());
+    assert!(link(dir.path(), "b", &[], Some(2)).status.success());
+    assert!(link(dir.path(), "c", &[], Some(4)).status.success());
+    let a = std::fs::read(dir.path().join("a/crosswalk.csv")).unwrap();
+    for other in ["b", "c"] {
+        assert_eq!(
+            a,
+            std::fs::read(dir.path().join(other).join("crosswalk.csv")).unwrap()
+        );
+        assert_eq!(
+            std::fs::read(dir.path().join("a/pairs.csv")).unwrap(),
+            std::fs::read(dir.path().join(other).join("pairs.csv")).unwrap()
+        );
+    }
+    // Reusing the fitted model gives the same result without fitting.
+    let model = dir.path().join("a/model.toml");
+    let o = link(dir.path(), "d", &["--model", model.to_str().unwrap()], None);
+    assert!(o.status.success(), "{}", text(&o).1);
+    assert!(text(&o).0.contains("loaded"));
+    assert_eq!(
+        crosswalk_map(&dir.path().join("a/crosswalk.csv")),
+        crosswalk_map(&dir.path().join("d/crosswalk.csv"))
+    );
+}
+
+#[test]
+fn train_saves_a_model_that_link_accepts() {
+    let dir = mini_copy();
+    let spec = dir.path().join("spec.toml");
+    let model = dir.path().join("m.toml");
+    let o = run(
+        &[
+            "train",
+            "--spec",
+            spec.to_str().unwrap(),
+            "--out",
+            model.to_str().unwrap(),
+        ],
+        None,
+    );
+    assert!(o.status.success(), "{}", text(&o).1);
+    let m = std::fs::read_to_string(&model).unwrap();
+    assert!(
+        m.contains("format = \"kinlink-model\"") && m.contains("[[attribute]]"),
+        "{m}"
+    );
+    assert!(
+        link(dir.path(), "o", &["--model", model.to_str().unwrap()], None)
+            .status
+            .success()
+    );
+}
