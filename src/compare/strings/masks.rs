@@ -1,0 +1,144 @@
+//! Position bit masks of a short pattern, the building block of the bit-parallel kernels.
+//!
+//! In: a pattern of at most [`MAX_BITS`] symbols (ASCII bytes or `char`s).
+//! Out: for any symbol `c`, a `u64` whose bit `i` is set when the pattern has `c` at
+//! position `i`. The Jaro and edit-distance kernels look the other string's symbols up
+//! here, so one 64-bit word answers "where in the pattern does this symbol occur?".
+
+/// Longest pattern (in symbols) that fits one machine word of position bits.
+pub(crate) const MAX_BITS: usize = 64;
+
+/// A word with the lowest `n` bits set (`n` may be 64 or more: then all bits).
+#[inline]
+pub(crate) fn low_bits(n: usize) -> u64 {
+    if n >= 64 {
+        u64::MAX
+    } else {
+        (1u64 << n) - 1
+    }
+}
+
+/// Position masks of an all-ASCII pattern, indexed by byte value.
+pub(crate) struct AsciiMasks {
+    table: [u64; 128],
+}
+
+impl AsciiMasks {
+    /// Masks of `pattern`; every byte must be ASCII and `pattern.len() <= MAX_BITS`.
+    #[inline]
+    pub(crate) fn new(pattern: &[u8]) -> Self {
+        debug_assert!(pattern.len() <= MAX_BITS);
+        let mut table = [0u64; 128];
+        for (i, &b) in pattern.iter().enumerate().take(MAX_BITS) {
+            table[usize::from(b & 0x7f)] |= 1u64 << i;
+        }
+        AsciiMasks { table }
+    }
+
+    /// Positions of the byte `b` (an ASCII byte) in the pattern.
+    #[inline(always)]
+    pub(crate) fn get(&self, b: u8) -> u64 {
+        // The mask keeps the index in bounds without a check; callers only pass ASCII.
+        self.table[usize::from(b & 0x7f)]
+    }
+}
+
+/// Position masks of a pattern of `char`s: a direct table for ASCII and a short list
+/// for the (few) other characters, searched linearly.
+#[derive(Clone)]
+pub(crate) struct CharMasks {
+    ascii: [u64; 128],
+    other_keys: [char; MAX_BITS],
+    other_masks: [u64; MAX_BITS],
+    n_other: usize,
+}
+
+impl CharMasks {
+    /// Masks of `pattern`; `pattern.len() <= MAX_BITS` (longer input is cut).
+    pub(crate) fn new(pattern: &[char]) -> Self {
+        debug_assert!(pattern.len() <= MAX_BITS);
+        let mut m = CharMasks {
+            ascii: [0; 128],
+            other_keys: ['\0'; MAX_BITS],
+            other_masks: [0; MAX_BITS],
+            n_other: 0,
+        };
+        for (i, &c) in pattern.iter().enumerate().take(MAX_BITS) {
+            let bit = 1u64 << i;
+            if c.is_ascii() {
+                m.ascii[c as usize] |= bit;
+            } else if let Some(k) = m.other_keys[..m.n_other].iter().position(|&o| o == c) {
+                m.other_masks[k] |= bit;
+            } else {
+                // At most MAX_BITS distinct characters, so there is always room.
+                m.other_keys[m.n_other] = c;
+                m.other_masks[m.n_other] = bit;
+                m.n_other += 1;
+            }
+        }
+        m
+    }
+
+    /// Positions of `c` in the pattern.
+    #[inline(always)]
+    pub(crate) fn get(&self, c: char) -> u64 {
+        if c.is_ascii() {
+            self.ascii[c as usize & 0x7f]
+        } else {
+            self.other_keys[..self.n_other]
+                .iter()
+                .position(|&o| o == c)
+                .map_or(0, |k| self.other_masks[k])
+        }
+    }
+
+    /// Positions of the ASCII byte `b` in the pattern.
+    #[inline(always)]
+    pub(crate) fn get_ascii(&self, b: u8) -> u64 {
+        self.ascii[usize::from(b & 0x7f)]
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn low_bits_edges() {
+        assert_eq!(low_bits(0), 0);
+        assert_eq!(low_bits(1), 1);
+        assert_eq!(low_bits(63), u64::MAX >> 1);
+        assert_eq!(low_bits(64), u64::MAX);
+        assert_eq!(low_bits(200), u64::MAX);
+    }
+
+    #[test]
+    fn ascii_masks_mark_positions() {
+        let m = AsciiMasks::new(b"ANNA");
+        assert_eq!(m.get(b'A'), 0b1001);
+        assert_eq!(m.get(b'N'), 0b0110);
+        assert_eq!(m.get(b'X'), 0);
+    }
+
+    #[test]
+    fn char_masks_mark_ascii_and_other() {
+        let p: Vec<char> = "MÜLLERÜ".chars().collect();
+        let m = CharMasks::new(&p);
+        assert_eq!(m.get('Ü'), 0b100_0010);
+        assert_eq!(m.get('L'), 0b000_1100);
+        assert_eq!(m.get_ascii(b'M'), 1);
+        assert_eq!(m.get('ß'), 0);
+    }
+
+    #[test]
+    fn char_masks_full_width() {
+        // 64 distinct non-ASCII characters fill the side list exactly.
+        let p: Vec<char> = (0..64u32)
+            .map(|i| char::from_u32(0x100 + i).unwrap_or('?'))
+            .collect();
+        let m = CharMasks::new(&p);
+        for (i, &c) in p.iter().enumerate() {
+            assert_eq!(m.get(c), 1u64 << i);
+        }
+    }
+}
