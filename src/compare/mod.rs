@@ -20,8 +20,8 @@ use crate::standardize::{fold_ascii, nickname_equivalent, translit_variants};
 
 pub mod strings;
 
-/// Level code of a comparison where one side is missing.
-pub const MISSING_LEVEL: u8 = u8::MAX;
+/// Level code of a comparison where one side is missing (shared with the EM).
+pub use crate::model::em::MISSING_LEVEL;
 
 /// Most attributes a spec may compare (the size of a comparison vector).
 pub const MAX_ATTRS: usize = 16;
@@ -188,10 +188,10 @@ impl Comparator {
                     x != u32::MAX && x == y
                 }
                 Level::JaroWinkler(t) => {
-                    *jw.get_or_insert_with(|| strsim::jaro_winkler(fa, fb)) >= t
+                    *jw.get_or_insert_with(|| strings::jaro_winkler(fa, fb)) >= t
                 }
-                Level::Jaro(t) => *jaro.get_or_insert_with(|| strsim::jaro(fa, fb)) >= t,
-                Level::Levenshtein(k) => strsim::levenshtein(fa, fb) <= k as usize,
+                Level::Jaro(t) => *jaro.get_or_insert_with(|| strings::jaro(fa, fb)) >= t,
+                Level::Levenshtein(k) => strings::levenshtein_within(fa, fb, k as usize).is_some(),
                 Level::DateSwap => match (self.dates[a as usize], self.dates[b as usize]) {
                     (Some(x), Some(y)) => x.0 == y.0 && x.1 == y.2 && x.2 == y.1,
                     _ => false,
