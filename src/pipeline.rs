@@ -15,7 +15,7 @@ use rayon::prelude::*;
 use crate::block::{Blocking, Task};
 use crate::classify::{Classifier, Decision};
 use crate::cluster::{cluster, Edge, Guards};
-use crate::compare::{Comparison, Gamma, MISSING_LEVEL};
+use crate::compare::{Comparison, Gamma};
 use crate::error::{Error, Result};
 use crate::model::{self, em::PatternCounts, KeyCounts, Model};
 use crate::output::{push_field, write_rejects, Staging};
@@ -335,7 +335,7 @@ fn score(
     which: PairsOutput,
     staging: &mut Staging,
 ) -> Result<Scored> {
-    let weights = model.weights();
+    let scorer = model::Scorer::new(model, comparison, table);
     let mut out = staging.csv("pairs.csv")?;
     let mut header =
         String::from("source_a,id_a,source_b,id_b,match_weight,match_probability,decision");
@@ -366,12 +366,12 @@ fn score(
                     blocking.for_each_pair(task, |a, b| {
                         per_key[task.key] += 1;
                         let g = comparison.gamma(table, a, b, &mut scratch);
-                        let w = model::weight_of(&weights, &g);
+                        let w = scorer.weight(&g, a);
                         let d = classifier.decide(w);
                         decisions[d as usize] += 1;
                         if which == PairsOutput::All || d != Decision::NonMatch {
                             pair_line(
-                                &mut text, table, comparison, &weights, classifier, a, b, w, d, &g,
+                                &mut text, table, comparison, &scorer, classifier, a, b, w, d, &g,
                             );
                         }
                         if d != Decision::NonMatch {
@@ -419,7 +419,7 @@ fn pair_line(
     text: &mut String,
     table: &RecordTable,
     comparison: &Comparison,
-    weights: &[Vec<f64>],
+    scorer: &model::Scorer,
     classifier: &Classifier,
     a: u32,
     b: u32,
@@ -428,6 +428,7 @@ fn pair_line(
     g: &Gamma,
 ) {
     use std::fmt::Write;
+    let first = a;
     let (a, b) = (a as usize, b as usize);
     push_field(text, table.source_name(a));
     text.push(',');
@@ -446,12 +447,7 @@ fn pair_line(
     for (k, c) in comparison.comparators.iter().enumerate() {
         text.push(',');
         push_field(text, c.level_name(g[k]));
-        let wk = if g[k] == MISSING_LEVEL {
-            0.0
-        } else {
-            weights[k][g[k] as usize]
-        };
-        let _ = write!(text, ",{wk:.4}");
+        let _ = write!(text, ",{:.4}", scorer.contribution(k, g[k], first));
     }
     text.push('\n');
 }
@@ -465,7 +461,7 @@ fn write_review(
     classifier: &Classifier,
     linked: &[Linked],
 ) -> Result<()> {
-    let weights = model.weights();
+    let scorer = model::Scorer::new(model, comparison, table);
     let mut w = staging.csv("review.csv")?;
     let mut header: Vec<String> = [
         "source_a",
@@ -512,11 +508,7 @@ fn write_review(
         ];
         for (k, c) in comparison.comparators.iter().enumerate() {
             let code = p.gamma[k];
-            let wk = if code == MISSING_LEVEL {
-                0.0
-            } else {
-                weights[k][code as usize]
-            };
+            let wk = scorer.contribution(k, code, p.a);
             row.push(c.level_name(code).to_string());
             row.push(format!("{wk:.4}"));
             row.push(table.get(a, c.attr).unwrap_or("").to_string());

@@ -52,6 +52,9 @@ pub struct AttrModel {
     pub u: Vec<f64>,
     /// log2(m / u) per level.
     pub weight: Vec<f64>,
+    /// Exact agreement is weighted by the frequency of the agreed value.
+    #[serde(default)]
+    pub frequency: bool,
 }
 
 /// What the EM fit on one blocking key's pairs found.
@@ -194,7 +197,96 @@ impl Model {
     }
 }
 
-/// Match weight of a comparison vector.
+/// Largest change (in bits, either way) a value's frequency makes to the exact weight.
+pub const FREQ_MAX_ADJUST: f64 = 6.0;
+
+/// Value-frequency adjustment of one attribute's exact level.
+#[derive(Debug, Clone)]
+struct FreqAdjust<'a> {
+    exact: u8,
+    ids: &'a [u32],
+    adjust: Vec<f64>,
+}
+
+/// Computes match weights, including value-frequency adjustments.
+///
+/// Agreement on value `v` is `m_exact · p_v` likely among matches and `p_v²` among
+/// non-matches (`p_v` = share of records with `v`), so its weight is `log2(m_exact / p_v)`
+/// instead of the average `log2(m_exact / u_exact)`: the adjustment is
+/// `log2(u_exact / p_v)`, clamped to ±[`FREQ_MAX_ADJUST`] bits so that a value seen once
+/// or a dominant value cannot decide a pair alone (Winkler 1989; METHODS.md §3).
+#[derive(Debug, Clone)]
+pub struct Scorer<'a> {
+    weights: Vec<Vec<f64>>,
+    freq: Vec<Option<FreqAdjust<'a>>>,
+}
+
+impl<'a> Scorer<'a> {
+    /// Prepare weights for scoring pairs of `table`.
+    pub fn new(model: &Model, comparison: &Comparison, table: &'a RecordTable) -> Scorer<'a> {
+        let freq = model
+            .attribute
+            .iter()
+            .zip(&comparison.comparators)
+            .map(|(a, c)| {
+                if !a.frequency {
+                    return None;
+                }
+                let exact =
+                    c.levels
+                        .iter()
+                        .position(|l| *l == crate::spec::Level::Exact)? as u8;
+                let col = table.column(c.attr);
+                let present = col.present().max(1) as f64;
+                let u_exact = a.u[exact as usize];
+                let adjust = col
+                    .counts
+                    .iter()
+                    .map(|&n| {
+                        let p = (n.max(1) as f64) / present;
+                        (u_exact / p)
+                            .log2()
+                            .clamp(-FREQ_MAX_ADJUST, FREQ_MAX_ADJUST)
+                    })
+                    .collect();
+                Some(FreqAdjust {
+                    exact,
+                    ids: &col.ids,
+                    adjust,
+                })
+            })
+            .collect();
+        Scorer {
+            weights: model.weights(),
+            freq,
+        }
+    }
+
+    /// Weight added by attribute `k` at level `code` for a pair whose first record is `a`.
+    #[inline]
+    pub fn contribution(&self, k: usize, code: u8, a: u32) -> f64 {
+        if code == MISSING_LEVEL {
+            return 0.0;
+        }
+        let mut w = self.weights[k][code as usize];
+        if let Some(f) = &self.freq[k] {
+            if code == f.exact {
+                w += f.adjust[f.ids[a as usize] as usize];
+            }
+        }
+        w
+    }
+
+    /// Match weight of a pair with comparison vector `gamma`, first record `a`.
+    #[inline]
+    pub fn weight(&self, gamma: &Gamma, a: u32) -> f64 {
+        (0..self.weights.len())
+            .map(|k| self.contribution(k, gamma[k], a))
+            .sum()
+    }
+}
+
+/// Match weight of a comparison vector (without value-frequency adjustments).
 #[inline]
 pub fn weight_of(weights: &[Vec<f64>], gamma: &Gamma) -> f64 {
     let mut w = 0.0;
@@ -402,6 +494,7 @@ pub fn fit(
                 m,
                 u: u[k].clone(),
                 weight,
+                frequency: spec.compares[k].frequency,
             }
         })
         .collect();
@@ -418,4 +511,79 @@ pub fn fit(
         attribute,
         block: blocks,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::record::{Attr, RecordTableBuilder, StdRecord};
+    use crate::spec::{CompareSpec, Level};
+
+    fn model_with(frequency: bool) -> Model {
+        Model {
+            format: "kinlink-model".into(),
+            version: MODEL_VERSION,
+            spec_fingerprint: String::new(),
+            spec_layout: String::new(),
+            lambda: 1e-4,
+            records: 0,
+            candidate_pairs: 0,
+            expected_matches: 0.0,
+            u_sample_pairs: 0,
+            attribute: vec![AttrModel {
+                attribute: "family_name".into(),
+                levels: vec!["exact".into(), "disagree".into()],
+                m: vec![0.9, 0.1],
+                u: vec![0.01, 0.99],
+                weight: vec![(0.9f64 / 0.01).log2(), (0.1f64 / 0.99).log2()],
+                frequency,
+            }],
+            block: Vec::new(),
+        }
+    }
+
+    #[test]
+    fn rare_values_weigh_more_than_common_ones() {
+        // 60 records "smith", 2 "quillfeather", 38 other distinct names.
+        let mut b = RecordTableBuilder::new(vec!["s".into()]);
+        let names: Vec<String> = (0..100)
+            .map(|i| match i {
+                0..60 => "smith".to_string(),
+                60..62 => "quillfeather".to_string(),
+                _ => format!("name{i}"),
+            })
+            .collect();
+        for (i, n) in names.iter().enumerate() {
+            let mut r = StdRecord::default();
+            r.set(Attr::FamilyName, Some(n.clone()));
+            b.push(0, i.to_string(), r);
+        }
+        let table = b.finish();
+        let spec = CompareSpec {
+            attr: Attr::FamilyName,
+            levels: vec![Level::Exact],
+            frequency: true,
+        };
+        let comparison = Comparison {
+            comparators: vec![crate::compare::Comparator::new(
+                &spec,
+                table.column(Attr::FamilyName),
+            )],
+        };
+        let exact: Gamma = [0; crate::compare::MAX_ATTRS];
+        let plain = Scorer::new(&model_with(false), &comparison, &table);
+        let freq = Scorer::new(&model_with(true), &comparison, &table);
+        let (smith, rare) = (0u32, 60u32);
+        assert_eq!(plain.weight(&exact, smith), plain.weight(&exact, rare));
+        let (ws, wr) = (freq.weight(&exact, smith), freq.weight(&exact, rare));
+        assert!(wr > ws + 3.0, "rare {wr} vs common {ws}");
+        // p(smith) = 0.6: adjustment log2(0.01 / 0.6) = -5.9 bits.
+        assert!((ws - plain.weight(&exact, smith) - (0.01f64 / 0.6).log2()).abs() < 1e-9);
+        // p(quillfeather) = 0.02: log2(0.01 / 0.02) = -1 bit.
+        assert!((wr - plain.weight(&exact, rare) + 1.0).abs() < 1e-9);
+        // Disagreement is not adjusted.
+        let mut dis = exact;
+        dis[0] = 1;
+        assert_eq!(freq.weight(&dis, rare), plain.weight(&dis, rare));
+    }
 }

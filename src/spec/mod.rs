@@ -358,7 +358,14 @@ impl Spec {
     pub fn model_layout(&self) -> String {
         self.compares
             .iter()
-            .map(|c| format!("{}: {}\n", c.attr, c.level_names().join(" | ")))
+            .map(|c| {
+                let freq = if c.frequency {
+                    " (value frequency)"
+                } else {
+                    ""
+                };
+                format!("{}: {}{freq}\n", c.attr, c.level_names().join(" | "))
+            })
             .collect()
     }
 
