@@ -1,1 +1,3 @@
 //! Integration tests: run the `kinlink` binary on small data.
+
+mod evaluate;
