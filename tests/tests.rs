@@ -2,4 +2,5 @@
 
 mod bad_input;
 mod common;
+mod evaluate;
 mod link;
