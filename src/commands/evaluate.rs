@@ -82,7 +82,7 @@ fn examples(recs: &[RecordRef]) -> String {
 }
 
 /// Warnings about records found in only one file or odd pair rows.
-fn warnings(m: &Metrics) -> Vec<String> {
+pub fn warnings(m: &Metrics) -> Vec<String> {
     let mut w = Vec::new();
     if m.missing_from_crosswalk > 0 {
         w.push(format!(
@@ -132,7 +132,7 @@ fn score_row(name: &str, s: &Scores) -> String {
 }
 
 /// The readable report.
-fn render_table(m: &Metrics) -> String {
+pub fn render_table(m: &Metrics) -> String {
     let p = &m.pairwise;
     let mut t = String::new();
     t += &format!(
