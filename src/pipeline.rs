@@ -186,7 +186,8 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
             weight: p.weight,
         })
         .collect();
-    let clusters = cluster(table.len(), &edges, &table.source, &Guards::default());
+    let guards = guards_of(spec, &table);
+    let clusters = cluster(table.len(), &edges, &table.source, &guards);
     let keys = crate::keys::assign(&table, &clusters.label);
     clock = t.record("cluster + keys", clock);
 
@@ -206,6 +207,33 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     )?;
     let mut w = staging.csv("rejects.csv")?;
     write_rejects(&mut w, &loaded.rejects)?;
+    w.finish()?;
+    let mut w = staging.csv("refused.csv")?;
+    w.row(&[
+        "source_a",
+        "id_a",
+        "source_b",
+        "id_b",
+        "match_weight",
+        "reason",
+    ])?;
+    let unique_names: Vec<String> = spec
+        .cluster
+        .unique
+        .iter()
+        .map(|a| a.name().to_string())
+        .collect();
+    for (e, why) in &clusters.refused {
+        let (a, b) = (e.a as usize, e.b as usize);
+        w.row(&[
+            table.source_name(a),
+            table.id[a].as_str(),
+            table.source_name(b),
+            table.id[b].as_str(),
+            &format!("{:.4}", e.weight),
+            &why.reason(&unique_names),
+        ])?;
+    }
     w.finish()?;
     let model_path = staging.path("model.toml");
     model.save(&model_path)?;
@@ -238,6 +266,24 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         outputs,
         timings: t,
     })
+}
+
+/// The clustering guards the spec asks for.
+fn guards_of(spec: &Spec, table: &RecordTable) -> Guards {
+    let mut one = vec![false; spec.sources.len()];
+    for &i in &spec.cluster.one_record_per_source {
+        one[i] = true;
+    }
+    Guards {
+        max_size: spec.cluster.max_size,
+        one_per_source: one,
+        distinct: spec
+            .cluster
+            .unique
+            .iter()
+            .map(|a| table.column(*a).ids.clone())
+            .collect(),
+    }
 }
 
 /// Pass 1: comparison vector counts per blocking key.

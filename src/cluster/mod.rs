@@ -2,8 +2,9 @@
 //!
 //! Matched pairs are merged with union-find in descending weight order (ties broken by
 //! record indexes), so the result does not depend on the order the pairs arrive in or on
-//! the thread count. Guards can refuse a merge: a maximum cluster size and "at most one
-//! record per source" for sources known to be free of duplicates. A refused merge is
+//! the thread count. Guards can refuse a merge: a maximum cluster size, "at most one
+//! record per source" for sources known to be free of duplicates, and cannot-links from
+//! attributes declared unique per person (two different non-empty values). A refused merge is
 //! recorded so that a person can look at it. Without guards this is plain transitive
 //! closure.
 
@@ -14,6 +15,9 @@ pub struct Guards {
     pub max_size: Option<usize>,
     /// Per source index, true when the source holds at most one record per customer.
     pub one_per_source: Vec<bool>,
+    /// Attributes unique per person (e.g. a national id): per attribute, the value id of
+    /// each record (0 = missing). Two clusters with different values are never merged.
+    pub distinct: Vec<Vec<u32>>,
 }
 
 /// A matched pair offered to the clustering.
@@ -34,6 +38,23 @@ pub enum Refusal {
     TooLarge,
     /// Both clusters hold a record of a source that allows one record per customer.
     SameSource,
+    /// The clusters hold different values of an attribute declared unique per person;
+    /// the number is the attribute's position in [`Guards::distinct`].
+    Conflict(usize),
+}
+
+impl Refusal {
+    /// A short reason for output files.
+    pub fn reason(self, distinct_names: &[String]) -> String {
+        match self {
+            Refusal::TooLarge => "cluster would exceed the maximum size".into(),
+            Refusal::SameSource => "two records of a source with one record per customer".into(),
+            Refusal::Conflict(k) => format!(
+                "different values of `{}`, declared unique per customer",
+                distinct_names.get(k).map_or("?", |s| s.as_str())
+            ),
+        }
+    }
 }
 
 /// The outcome of clustering.
@@ -61,6 +82,8 @@ struct UnionFind {
     size: Vec<u32>,
     /// Bit `s` set when the cluster holds a record of guarded source `s` (first 64).
     sources: Vec<u64>,
+    /// Per distinct attribute, the value the cluster holds (0 = none yet).
+    values: Vec<Vec<u32>>,
 }
 
 impl UnionFind {
@@ -105,6 +128,7 @@ pub fn cluster(n: usize, edges: &[Edge], source_of: &[u16], guards: &Guards) -> 
                 }
             })
             .collect(),
+        values: guards.distinct.clone(),
     };
     let mut refused = Vec::new();
     for &i in &order {
@@ -122,6 +146,13 @@ pub fn cluster(n: usize, edges: &[Edge], source_of: &[u16], guards: &Guards) -> 
             refused.push((e, Refusal::SameSource));
             continue;
         }
+        if let Some(k) = uf.values.iter().position(|v| {
+            let (x, y) = (v[ra as usize], v[rb as usize]);
+            x != 0 && y != 0 && x != y
+        }) {
+            refused.push((e, Refusal::Conflict(k)));
+            continue;
+        }
         // Union by size; the representative is fixed afterwards.
         let (big, small) = if uf.size[ra as usize] >= uf.size[rb as usize] {
             (ra, rb)
@@ -131,6 +162,11 @@ pub fn cluster(n: usize, edges: &[Edge], source_of: &[u16], guards: &Guards) -> 
         uf.parent[small as usize] = big;
         uf.size[big as usize] = size;
         uf.sources[big as usize] |= uf.sources[small as usize];
+        for v in uf.values.iter_mut() {
+            if v[big as usize] == 0 {
+                v[big as usize] = v[small as usize];
+            }
+        }
     }
     // Label = smallest record index of the cluster.
     let mut smallest = vec![u32::MAX; n];
@@ -184,6 +220,16 @@ mod tests {
         let c = cluster(4, &edges, &[0, 1, 0, 1], &g);
         assert_eq!(c.label, vec![0, 0, 2, 2]);
         assert_eq!(c.refused[0].1, Refusal::SameSource);
+        // A unique attribute: records 0 and 3 carry different national ids (1 and 2);
+        // record 1 and 2 carry none. The chain 0-1-2-3 must not join 0 with 3.
+        let edges = [e(0, 1, 20.0), e(1, 2, 18.0), e(2, 3, 16.0)];
+        let g = Guards {
+            distinct: vec![vec![1, 0, 0, 2]],
+            ..Default::default()
+        };
+        let c = cluster(4, &edges, &[0; 4], &g);
+        assert_eq!(c.label, vec![0, 0, 0, 3]);
+        assert_eq!(c.refused, vec![(edges[2], Refusal::Conflict(0))]);
     }
 
     proptest! {
@@ -195,7 +241,12 @@ mod tests {
         ) {
             let edges: Vec<Edge> = raw.iter().map(|&(a, b, w)| e(a, b, w as f64)).collect();
             let sources: Vec<u16> = (0..30).map(|r| (r % 3) as u16).collect();
-            let g = Guards { max_size: Some(max), one_per_source: vec![true, false, false] };
+            let ids: Vec<u32> = (0..30u32).map(|r| if r % 4 == 0 { r % 3 + 1 } else { 0 }).collect();
+            let g = Guards {
+                max_size: Some(max),
+                one_per_source: vec![true, false, false],
+                distinct: vec![ids.clone()],
+            };
             let c1 = cluster(30, &edges, &sources, &g);
             let mut shuffled = edges.clone();
             let mut rng = crate::util::Rng::new(seed);
@@ -219,6 +270,13 @@ mod tests {
             }
             prop_assert!(size.values().all(|&s| s <= max));
             prop_assert!(src0.values().all(|&s| s <= 1));
+            let mut seen: std::collections::HashMap<u32, u32> = std::collections::HashMap::new();
+            for (r, &l) in c1.label.iter().enumerate() {
+                if ids[r] != 0 {
+                    let v = *seen.entry(l).or_insert(ids[r]);
+                    prop_assert_eq!(v, ids[r], "cluster holds two unique values");
+                }
+            }
         }
     }
 }

@@ -34,6 +34,19 @@ pub struct Spec {
     pub classify: ClassifySpec,
     /// Model settings.
     pub model: ModelSpec,
+    /// Clustering guards.
+    pub cluster: ClusterSpec,
+}
+
+/// The `[cluster]` section: guards against chaining different customers together.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct ClusterSpec {
+    /// Largest allowed cluster (records).
+    pub max_size: Option<usize>,
+    /// Indexes of sources that hold at most one record per customer.
+    pub one_record_per_source: Vec<usize>,
+    /// Attributes unique per person: different non-empty values never merge.
+    pub unique: Vec<Attr>,
 }
 
 /// One source system.
@@ -519,7 +532,9 @@ impl Walker {
         self.check_keys(
             t,
             "",
-            &["version", "source", "compare", "block", "classify", "model"],
+            &[
+                "version", "source", "compare", "block", "classify", "model", "cluster",
+            ],
         )?;
         match t.get("version") {
             Some(Value::Integer(SPEC_VERSION)) => {}
@@ -602,6 +617,7 @@ impl Walker {
         }
         let classify = self.classify(t)?;
         let model = self.model(t)?;
+        let cluster = self.cluster(t, &sources)?;
         Ok(Spec {
             file: self.file.clone(),
             sources,
@@ -609,6 +625,7 @@ impl Walker {
             blocks,
             classify,
             model,
+            cluster,
         })
     }
 
@@ -917,6 +934,76 @@ impl Walker {
     }
 }
 
+impl Walker {
+    fn cluster(&self, root: &Table, sources: &[SourceSpec]) -> Result<ClusterSpec> {
+        let mut c = ClusterSpec::default();
+        let t = match root.get("cluster") {
+            None => return Ok(c),
+            Some(Value::Table(t)) => t,
+            Some(v) => {
+                return Err(self.err(
+                    "cluster",
+                    format!("expected a table, found {}", type_name(v)),
+                ))
+            }
+        };
+        let at = "cluster";
+        self.check_keys(t, at, &["max_size", "one_record_per_source", "unique"])?;
+        c.max_size = self.integer(t, at, "max_size", 2)?.map(|n| n as usize);
+        for (i, name) in self
+            .string_list(t, at, "one_record_per_source")?
+            .iter()
+            .enumerate()
+        {
+            let Some(idx) = sources.iter().position(|s| s.name == *name) else {
+                let names: Vec<&str> = sources.iter().map(|s| s.name.as_str()).collect();
+                return Err(self.err(
+                    format!("cluster.one_record_per_source[{}]", i + 1),
+                    format!(
+                        "`{name}` is not a source; the sources are {}",
+                        names.join(", ")
+                    ),
+                ));
+            };
+            c.one_record_per_source.push(idx);
+        }
+        for (i, name) in self.string_list(t, at, "unique")?.iter().enumerate() {
+            let Some(attr) = Attr::from_name(name) else {
+                return Err(self.err(
+                    format!("cluster.unique[{}]", i + 1),
+                    format!(
+                        "`{name}` is not an attribute; allowed: {}",
+                        Attr::all_names()
+                    ),
+                ));
+            };
+            c.unique.push(attr);
+        }
+        Ok(c)
+    }
+
+    fn string_list(&self, t: &Table, at: &str, k: &str) -> Result<Vec<String>> {
+        match t.get(k) {
+            None => Ok(Vec::new()),
+            Some(Value::Array(items)) => items
+                .iter()
+                .enumerate()
+                .map(|(i, v)| match v {
+                    Value::String(s) => Ok(s.clone()),
+                    other => Err(self.err(
+                        format!("{}[{}]", join(at, k), i + 1),
+                        format!("expected a string, found {}", type_name(other)),
+                    )),
+                })
+                .collect(),
+            Some(v) => Err(self.err(
+                join(at, k),
+                format!("expected a list of strings, found {}", type_name(v)),
+            )),
+        }
+    }
+}
+
 fn join(at: &str, k: &str) -> String {
     if at.is_empty() {
         k.to_string()
@@ -976,6 +1063,10 @@ match_probability = 0.95
 review_probability = 0.4
 [model]
 seed = 7
+[cluster]
+max_size = 20
+one_record_per_source = ["shop"]
+unique = ["email"]
 "#;
 
     fn parse(text: &str) -> Result<Spec> {
@@ -1023,6 +1114,17 @@ seed = 7
         assert_eq!(s.model.seed, 7);
         assert_eq!(s.model.u_sample_pairs, ModelSpec::default().u_sample_pairs);
         assert!(s.sources[1].provides(Attr::GivenName));
+        assert_eq!(
+            s.cluster,
+            ClusterSpec {
+                max_size: Some(20),
+                one_record_per_source: vec![1],
+                unique: vec![Attr::Email]
+            }
+        );
+        let (k, m) = err_of(&GOOD.replace("[\"shop\"]", "[\"shops\"]"));
+        assert_eq!(k, "cluster.one_record_per_source[1]");
+        assert!(m.contains("crm, shop"), "{m}");
     }
 
     #[test]
