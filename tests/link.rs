@@ -125,3 +125,20 @@ fn train_saves_a_model_that_link_accepts() {
             .success()
     );
 }
+
+#[test]
+fn plan_reports_pairs_and_completeness_per_key() {
+    let dir = mini();
+    let spec = dir.join("spec.toml");
+    let truth = dir.join("truth.csv");
+    let o = run(&["plan", "--spec", spec.to_str().unwrap(), "--truth", truth.to_str().unwrap()], None);
+    let (out, err) = text(&o);
+    assert!(o.status.success(), "{err}");
+    // 20 records: 190 pairs; postcode blocks hold 23 pairs (sum of n(n-1)/2 over zips).
+    assert!(out.contains("190 record pairs"), "{out}");
+    let line = out.lines().find(|l| l.starts_with("postcode")).unwrap();
+    let cols: Vec<&str> = line.split_whitespace().collect();
+    assert_eq!(cols[3], "23", "{line}");
+    // Every true pair shares its postcode in this data: completeness 1.
+    assert_eq!(cols[5], "1.0000", "{line}");
+}

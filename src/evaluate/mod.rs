@@ -136,6 +136,11 @@ impl Grouping {
         self.index.get(&key).map(|&p| p as usize)
     }
 
+    /// Group number (0-based, in order of first appearance) of the record at `pos`.
+    pub fn group_of(&self, pos: usize) -> Option<u32> {
+        self.group.get(pos).copied()
+    }
+
     /// True when the records at positions `a` and `b` are in the same group.
     pub fn same_group(&self, a: usize, b: usize) -> bool {
         self.group.get(a).is_some() && self.group.get(a) == self.group.get(b)

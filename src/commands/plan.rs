@@ -1,0 +1,101 @@
+//! `kinlink plan`: estimate candidate pairs per blocking key before comparing anything.
+
+use std::path::PathBuf;
+
+use kinlink::block::{self, Blocking};
+use kinlink::evaluate;
+use kinlink::sources;
+use kinlink::spec::Spec;
+
+use super::Global;
+
+/// Arguments of `kinlink plan`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The linkage spec (TOML).
+    #[arg(long)]
+    pub spec: PathBuf,
+    /// Truth file (`source,source_id,entity_id`): adds pair completeness per key.
+    #[arg(long)]
+    pub truth: Option<PathBuf>,
+    /// How many of the largest blocks to list per key.
+    #[arg(long, default_value_t = 5)]
+    pub top: usize,
+}
+
+/// Run `kinlink plan`.
+pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
+    let spec = Spec::load(&args.spec)?;
+    let loaded = sources::load(&spec)?;
+    let table = &loaded.table;
+    let blocking = Blocking::build(table, &spec.blocks, u64::MAX)?;
+    let entity: Option<Vec<u32>> = match &args.truth {
+        None => None,
+        Some(p) => {
+            let truth = evaluate::read_truth(p)?;
+            let mut next = truth.n_groups() as u32;
+            // Records missing from the truth count as entities of their own.
+            Some(
+                (0..table.len())
+                    .map(|r| {
+                        truth
+                            .position(table.source_name(r), &table.id[r])
+                            .and_then(|pos| truth.group_of(pos))
+                            .unwrap_or_else(|| {
+                                next += 1;
+                                next
+                            })
+                    })
+                    .collect(),
+            )
+        }
+    };
+    let plans = block::plan(&blocking, entity.as_deref(), args.top);
+    let n = table.len() as u64;
+    let all = n * n.saturating_sub(1) / 2;
+    println!("{} records, {} record pairs in all\n", n, all);
+    println!(
+        "{:<20} {:>9} {:>8} {:>14} {:>14} {:>9} {:>9}",
+        "key", "records", "blocks", "pairs", "new (est.)", "compl.", "cum."
+    );
+    let limit = spec.model.max_pairs_per_key;
+    for p in &plans {
+        let pct = |x: Option<f64>| x.map_or("-".to_string(), |v| format!("{:.4}", v));
+        println!(
+            "{:<20} {:>9} {:>8} {:>14} {:>14} {:>9} {:>9}{}",
+            p.name,
+            p.records_keyed,
+            p.blocks,
+            p.raw_pairs,
+            p.new_pairs,
+            pct(p.completeness),
+            pct(p.cumulative_completeness),
+            if p.raw_pairs > limit {
+                "  OVER LIMIT"
+            } else {
+                ""
+            }
+        );
+    }
+    let total: u64 = plans.iter().map(|p| p.new_pairs).sum();
+    println!(
+        "\nestimated candidate pairs: {total} (reduction ratio {:.6})",
+        1.0 - total as f64 / all.max(1) as f64
+    );
+    for p in &plans {
+        let top: Vec<String> = p
+            .largest
+            .iter()
+            .map(|(v, n)| format!("`{v}` {n}"))
+            .collect();
+        println!("largest blocks of {}: {}", p.name, top.join(", "));
+    }
+    if let Some(p) = plans.iter().find(|p| p.raw_pairs > limit) {
+        println!(
+            "\nkey `{}` exceeds model.max_pairs_per_key ({limit}); `link` will refuse it. Add a \
+             part to the key (for example prefix(postcode, 3)) or use a longer prefix.",
+            p.name
+        );
+    }
+    Ok(())
+}
