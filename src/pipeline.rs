@@ -13,7 +13,7 @@ use std::time::{Duration, Instant};
 use rayon::prelude::*;
 
 use crate::block::{Blocking, Task};
-use crate::classify::{Classifier, Decision};
+use crate::classify::{Classifier, Decision, Estimate, WeightHistogram};
 use crate::cluster::{cluster, Edge, Guards};
 use crate::compare::{Comparison, Gamma};
 use crate::error::{Error, Result};
@@ -43,6 +43,8 @@ pub struct RunOptions {
     pub model: Option<PathBuf>,
     /// Which pairs to write.
     pub pairs: PairsOutput,
+    /// Choose the match threshold so that the model's estimated precision is this.
+    pub target_precision: Option<f64>,
 }
 
 /// Candidate pairs of one blocking key.
@@ -91,6 +93,8 @@ pub struct RunSummary {
     pub fitted: bool,
     /// The classifier's weight thresholds.
     pub classifier: Classifier,
+    /// The model's own estimate of precision and recall at the match threshold.
+    pub estimate: Estimate,
     /// Pairs per decision: match, review, non-match.
     pub decisions: [u64; 3],
     /// Customers (clusters) found.
@@ -261,6 +265,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         fitted,
         classifier,
         decisions: scored.decisions,
+        estimate: scored.histogram.estimate(classifier.upper),
         customers: clusters.count(),
         refused_merges: clusters.refused.len(),
         outputs,
@@ -357,6 +362,7 @@ struct Linked {
 
 /// One chunk's share of pass 2.
 struct ChunkScore {
+    histogram: WeightHistogram,
     text: String,
     linked: Vec<Linked>,
     per_key: Vec<u64>,
@@ -364,6 +370,7 @@ struct ChunkScore {
 }
 
 struct Scored {
+    histogram: WeightHistogram,
     linked: Vec<Linked>,
     per_key: Vec<u64>,
     decisions: [u64; 3],
@@ -392,6 +399,7 @@ fn score(
     out.raw(header.as_bytes())?;
 
     let mut result = Scored {
+        histogram: WeightHistogram::default(),
         linked: Vec::new(),
         per_key: vec![0; blocking.keys.len()],
         decisions: [0; 3],
@@ -407,6 +415,7 @@ fn score(
                 let mut linked = Vec::new();
                 let mut per_key = vec![0u64; blocking.keys.len()];
                 let mut decisions = [0u64; 3];
+                let mut histogram = WeightHistogram::default();
                 let mut scratch = comparison.scratch();
                 for task in chunk.iter() {
                     blocking.for_each_pair(task, |a, b| {
@@ -414,6 +423,7 @@ fn score(
                         let g = comparison.gamma(table, a, b, &mut scratch);
                         let w = scorer.weight(&g, a);
                         let d = classifier.decide(w);
+                        histogram.add(w, classifier.probability(w), 1);
                         decisions[d as usize] += 1;
                         if which == PairsOutput::All || d != Decision::NonMatch {
                             pair_line(
@@ -432,6 +442,7 @@ fn score(
                     });
                 }
                 ChunkScore {
+                    histogram,
                     text,
                     linked,
                     per_key,
@@ -440,6 +451,7 @@ fn score(
             })
             .collect();
         for ChunkScore {
+            histogram,
             text,
             linked,
             per_key,
@@ -447,6 +459,7 @@ fn score(
         } in parts
         {
             out.raw(text.as_bytes())?;
+            result.histogram.merge(&histogram);
             result.linked.extend(linked);
             for (t, p) in result.per_key.iter_mut().zip(per_key) {
                 *t += p;

@@ -131,7 +131,16 @@ fn plan_reports_pairs_and_completeness_per_key() {
     let dir = mini();
     let spec = dir.join("spec.toml");
     let truth = dir.join("truth.csv");
-    let o = run(&["plan", "--spec", spec.to_str().unwrap(), "--truth", truth.to_str().unwrap()], None);
+    let o = run(
+        &[
+            "plan",
+            "--spec",
+            spec.to_str().unwrap(),
+            "--truth",
+            truth.to_str().unwrap(),
+        ],
+        None,
+    );
     let (out, err) = text(&o);
     assert!(o.status.success(), "{err}");
     // 20 records: 190 pairs; postcode blocks hold 23 pairs (sum of n(n-1)/2 over zips).

@@ -83,6 +83,113 @@ fn log2_odds(p: f64) -> f64 {
     (p / (1.0 - p)).log2()
 }
 
+/// Bins per bit of weight in a [`WeightHistogram`].
+const BINS_PER_BIT: f64 = 32.0;
+/// Lowest and highest weight the histogram separates (weights outside are clamped).
+const WEIGHT_RANGE: f64 = 128.0;
+
+/// Candidate pairs by match weight, with the sum of their match probabilities: enough
+/// to estimate precision and recall at any threshold without labels.
+///
+/// The model's own estimate (after Belin & Rubin 1995, METHODS.md §4): among pairs at or
+/// above a threshold, the expected share of true matches is the mean match probability,
+/// and the expected matches found are the sum of those probabilities out of the sum over
+/// all candidate pairs. Matches that blocking never proposed are outside this estimate.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WeightHistogram {
+    counts: Vec<u64>,
+    prob: Vec<f64>,
+}
+
+impl Default for WeightHistogram {
+    fn default() -> Self {
+        let n = (2.0 * WEIGHT_RANGE * BINS_PER_BIT) as usize + 1;
+        WeightHistogram {
+            counts: vec![0; n],
+            prob: vec![0.0; n],
+        }
+    }
+}
+
+impl WeightHistogram {
+    fn bin(w: f64) -> usize {
+        let x = (w.clamp(-WEIGHT_RANGE, WEIGHT_RANGE) + WEIGHT_RANGE) * BINS_PER_BIT;
+        x.floor() as usize
+    }
+
+    /// Lowest weight of bin `i`.
+    fn bin_start(i: usize) -> f64 {
+        i as f64 / BINS_PER_BIT - WEIGHT_RANGE
+    }
+
+    /// Add `count` pairs of weight `w` and match probability `p`.
+    #[inline]
+    pub fn add(&mut self, w: f64, p: f64, count: u64) {
+        let b = Self::bin(w);
+        self.counts[b] += count;
+        self.prob[b] += p * count as f64;
+    }
+
+    /// Add another histogram.
+    pub fn merge(&mut self, other: &WeightHistogram) {
+        for (a, b) in self.counts.iter_mut().zip(&other.counts) {
+            *a += b;
+        }
+        for (a, b) in self.prob.iter_mut().zip(&other.prob) {
+            *a += b;
+        }
+    }
+
+    /// Pairs counted.
+    pub fn total(&self) -> u64 {
+        self.counts.iter().sum()
+    }
+
+    /// Expected true matches among all pairs counted.
+    pub fn expected_matches(&self) -> f64 {
+        self.prob.iter().sum()
+    }
+
+    /// Estimated (precision, recall) of deciding "match" at weight ≥ `t` (bin resolution).
+    pub fn estimate(&self, t: f64) -> Estimate {
+        let from = Self::bin(t);
+        let n: u64 = self.counts[from..].iter().sum();
+        let p: f64 = self.prob[from..].iter().sum();
+        let all = self.expected_matches();
+        Estimate {
+            pairs: n,
+            precision: if n == 0 { 1.0 } else { p / n as f64 },
+            recall: if all <= 0.0 { 1.0 } else { p / all },
+        }
+    }
+
+    /// The lowest weight threshold whose estimated precision is at least `target`.
+    pub fn threshold_for_precision(&self, target: f64) -> Option<f64> {
+        let mut n = 0u64;
+        let mut p = 0.0;
+        let mut best = None;
+        for i in (0..self.counts.len()).rev() {
+            n += self.counts[i];
+            p += self.prob[i];
+            if n > 0 && p / n as f64 >= target {
+                best = Some(Self::bin_start(i));
+            }
+        }
+        best
+    }
+}
+
+/// A model-based estimate at one threshold.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Estimate {
+    /// Pairs at or above the threshold.
+    pub pairs: u64,
+    /// Expected share of true matches among them.
+    pub precision: f64,
+    /// Expected share of the candidates' true matches that they hold.
+    pub recall: f64,
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -105,6 +212,25 @@ mod tests {
         assert_eq!(c.decide(12.0), Decision::Match);
         assert_eq!(c.decide(11.0), Decision::Review);
         assert_eq!(c.decide(9.99), Decision::NonMatch);
+    }
+
+    #[test]
+    fn estimates_from_the_histogram() {
+        let mut h = WeightHistogram::default();
+        // 10 pairs at weight 20 with p = 0.99, 10 at weight 0 with p = 0.5, 80 at -20, p = 0.
+        h.add(20.0, 0.99, 10);
+        h.add(0.0, 0.5, 10);
+        h.add(-20.0, 0.0, 80);
+        let e = h.estimate(10.0);
+        assert_eq!(e.pairs, 10);
+        assert!((e.precision - 0.99).abs() < 1e-12);
+        assert!((e.recall - 9.9 / 14.9).abs() < 1e-12);
+        let e = h.estimate(-1.0);
+        assert!((e.precision - 14.9 / 20.0).abs() < 1e-12);
+        // Precision 0.9 needs the threshold above weight 0.
+        let t = h.threshold_for_precision(0.9).unwrap();
+        assert!(t > 0.0 && t <= 20.0, "{t}");
+        assert_eq!(h.threshold_for_precision(0.999), None);
     }
 
     proptest! {

@@ -2,7 +2,6 @@
 
 use std::path::PathBuf;
 
-use kinlink::evaluate;
 use kinlink::pipeline::{self, RunOptions};
 use kinlink::spec::Spec;
 
@@ -37,22 +36,8 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         );
         summary::print(&summary, args.timings);
     }
-    // Score against the demo truth (never used in fitting).
-    let truth_path = args.data.join("truth.csv");
-    let truth = evaluate::read_truth(&truth_path)?;
-    let crosswalk = evaluate::read_crosswalk(args.out.join("crosswalk.csv"))?;
-    let mut metrics = evaluate::evaluate(&truth, &crosswalk);
-    let pairs = evaluate::read_pairs(args.out.join("pairs.csv"), &truth)?;
-    metrics.blocking = Some(evaluate::blocking_metrics(&truth, &pairs));
+    summary::print_actual(&args.data.join("truth.csv"), &args.out, &summary, global)?;
     if !global.quiet {
-        println!(
-            "\nEvaluation against {} (truth is not used in fitting)",
-            truth_path.display()
-        );
-        for w in super::evaluate::warnings(&metrics) {
-            println!("  warning: {w}");
-        }
-        print!("{}", super::evaluate::render_table(&metrics));
         println!("\nAll outputs are in {}", args.out.display());
     }
     Ok(())

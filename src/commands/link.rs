@@ -23,6 +23,12 @@ pub struct Args {
     /// Which pairs to write to pairs.csv: every candidate pair, or only match and review.
     #[arg(long, value_enum, default_value_t = PairsArg::All)]
     pub pairs: PairsArg,
+    /// Choose the match threshold so that the model's estimated precision is P (0..1).
+    #[arg(long, value_name = "P")]
+    pub target_precision: Option<f64>,
+    /// Truth file (`source,source_id,entity_id`): print actual quality next to estimates.
+    #[arg(long)]
+    pub truth: Option<PathBuf>,
     /// Print the time spent per stage.
     #[arg(long)]
     pub timings: bool,
@@ -53,7 +59,16 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         .with_context(|| {
             Hint("the spec keys are described in the README, section \"Spec reference\"".into())
         })?;
+    if let Some(p) = args.target_precision {
+        if !(p > 0.0 && p < 1.0) {
+            return Err(kinlink::Error::Usage(format!(
+                "--target-precision {p}: give a precision strictly between 0 and 1, e.g. 0.99"
+            ))
+            .into());
+        }
+    }
     let opts = RunOptions {
+        target_precision: args.target_precision,
         out: args.out.clone(),
         model: args.model.clone(),
         pairs: args.pairs.into(),
@@ -61,6 +76,9 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let summary = pipeline::run(&spec, &opts)?;
     if !global.quiet {
         summary::print(&summary, args.timings);
+    }
+    if let Some(truth) = &args.truth {
+        summary::print_actual(truth, &args.out, &summary, global)?;
     }
     Ok(())
 }

@@ -81,6 +81,11 @@ pub fn print(s: &RunSummary, timings: bool) {
         "  thresholds: match at weight ≥ {:.2}, review at weight ≥ {:.2}",
         s.classifier.upper, s.classifier.lower
     );
+    println!(
+        "  estimated at the match threshold (from the model, no labels): precision {:.4}, \
+         recall {:.4} of the candidates' matches",
+        s.estimate.precision, s.estimate.recall
+    );
     println!("\nDecisions");
     println!(
         "  match {}   review {}   non-match {}",
@@ -105,4 +110,43 @@ pub fn print(s: &RunSummary, timings: bool) {
     for p in &s.outputs {
         println!("  {}", p.display());
     }
+}
+
+/// With a truth file: actual quality next to the model's estimates, then the
+/// clustering scores.
+pub fn print_actual(
+    truth_path: &std::path::Path,
+    out: &std::path::Path,
+    s: &RunSummary,
+    global: super::Global,
+) -> anyhow::Result<()> {
+    use kinlink::evaluate;
+    let truth = evaluate::read_truth(truth_path)?;
+    let crosswalk = evaluate::read_crosswalk(out.join("crosswalk.csv"))?;
+    let mut metrics = evaluate::evaluate(&truth, &crosswalk);
+    let pairs_file = out.join("pairs.csv");
+    let decisions = evaluate::decision_metrics(&pairs_file, &truth)?;
+    let pairs = evaluate::read_pairs(&pairs_file, &truth)?;
+    metrics.blocking = Some(evaluate::blocking_metrics(&truth, &pairs));
+    if global.quiet {
+        return Ok(());
+    }
+    println!(
+        "\nEvaluation against {} (truth is not used in fitting)",
+        truth_path.display()
+    );
+    println!("  match decisions on candidate pairs   estimated   actual");
+    println!(
+        "    precision                          {:>9.4}   {:>6.4}",
+        s.estimate.precision, decisions.precision
+    );
+    println!(
+        "    recall (of candidates' matches)    {:>9.4}   {:>6.4}",
+        s.estimate.recall, decisions.recall
+    );
+    for w in super::evaluate::warnings(&metrics) {
+        println!("  warning: {w}");
+    }
+    print!("{}", super::evaluate::render_table(&metrics));
+    Ok(())
 }

@@ -607,6 +607,48 @@ pub fn read_pairs(path: impl AsRef<Path>, truth: &Grouping) -> Result<CandidateP
     Ok(pairs)
 }
 
+/// Pair-level quality of the `match` decisions in a pairs file, against the truth.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct DecisionMetrics {
+    /// Pairs in the file.
+    pub pairs: u64,
+    /// Pairs in the file that are true matches.
+    pub true_pairs: u64,
+    /// Pairs decided `match`.
+    pub match_pairs: u64,
+    /// Pairs decided `match` that are true matches.
+    pub match_true: u64,
+    /// match_true / match_pairs.
+    pub precision: f64,
+    /// match_true / true_pairs: recall among the pairs in the file (the candidates).
+    pub recall: f64,
+}
+
+/// Score the `decision` column of a pairs file (`source_a,id_a,source_b,id_b,...,decision`).
+pub fn decision_metrics(path: impl AsRef<Path>, truth: &Grouping) -> Result<DecisionMetrics> {
+    let path = path.as_ref();
+    let wanted = ["source_a", "id_a", "source_b", "id_b", "decision"];
+    let mut table = open_table(path, &wanted)?;
+    let mut m = DecisionMetrics::default();
+    table.for_each(path, &wanted, |_, v| {
+        let same = match (truth.position(v[0], v[1]), truth.position(v[2], v[3])) {
+            (Some(a), Some(b)) => truth.same_group(a, b),
+            _ => false,
+        };
+        m.pairs += 1;
+        m.true_pairs += same as u64;
+        if v[4] == "match" {
+            m.match_pairs += 1;
+            m.match_true += same as u64;
+        }
+        Ok(())
+    })?;
+    let ratio = |a: u64, b: u64| if b == 0 { 1.0 } else { a as f64 / b as f64 };
+    m.precision = ratio(m.match_true, m.match_pairs);
+    m.recall = ratio(m.match_true, m.true_pairs);
+    Ok(m)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
