@@ -77,6 +77,9 @@ pub fn print(s: &RunSummary, timings: bool) {
     } else {
         println!("  loaded: match prior λ = {:.3e}", s.model.lambda);
     }
+    for w in &s.model.warnings {
+        println!("  warning: {w}");
+    }
     println!(
         "  thresholds: match at weight ≥ {:.2}, review at weight ≥ {:.2}",
         s.classifier.upper, s.classifier.lower

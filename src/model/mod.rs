@@ -103,6 +103,9 @@ pub struct Model {
     pub attribute: Vec<AttrModel>,
     /// Per blocking key fits.
     pub block: Vec<BlockFit>,
+    /// Things a person should look at (e.g. an agreement level that counts against a match).
+    #[serde(default)]
+    pub warnings: Vec<String>,
 }
 
 impl Model {
@@ -195,6 +198,26 @@ impl Model {
         }
         Ok(model)
     }
+}
+
+/// Warnings for agreement levels (all but `disagree`) whose m is below their u: there,
+/// agreement would count as evidence against a match, which usually means a level that is
+/// too loose, or too little data.
+pub fn level_warnings(attrs: &[AttrModel]) -> Vec<String> {
+    let mut out = Vec::new();
+    for a in attrs {
+        let last = a.levels.len().saturating_sub(1);
+        for (l, name) in a.levels.iter().enumerate().take(last) {
+            if a.m[l] < a.u[l] {
+                out.push(format!(
+                    "`{}` level `{name}`: m = {:.4} is below u = {:.4}, so agreeing at this level \
+                     counts against a match; consider a stricter level or more data",
+                    a.attribute, a.m[l], a.u[l]
+                ));
+            }
+        }
+    }
+    out
 }
 
 /// Largest change (in bits, either way) a value's frequency makes to the exact weight.
@@ -477,7 +500,7 @@ pub fn fit(
     }
     let all_pairs = (records * records.saturating_sub(1) / 2).max(1) as f64;
     let lambda = (expected / all_pairs).clamp(1e-12, 0.5);
-    let attribute = comparison
+    let attribute: Vec<AttrModel> = comparison
         .comparators
         .iter()
         .enumerate()
@@ -498,7 +521,9 @@ pub fn fit(
             }
         })
         .collect();
+    let warnings = level_warnings(&attribute);
     Ok(Model {
+        warnings,
         format: "kinlink-model".into(),
         version: MODEL_VERSION,
         spec_fingerprint: spec.model_fingerprint(),
@@ -539,7 +564,18 @@ mod tests {
                 frequency,
             }],
             block: Vec::new(),
+            warnings: Vec::new(),
         }
+    }
+
+    #[test]
+    fn warns_when_agreement_counts_against_a_match() {
+        let mut m = model_with(false);
+        assert!(level_warnings(&m.attribute).is_empty());
+        m.attribute[0].m = vec![0.005, 0.995];
+        let w = level_warnings(&m.attribute);
+        assert_eq!(w.len(), 1);
+        assert!(w[0].contains("`family_name` level `exact`"), "{w:?}");
     }
 
     #[test]
