@@ -45,6 +45,9 @@ pub struct RunOptions {
     pub pairs: PairsOutput,
     /// Choose the match threshold so that the model's estimated precision is this.
     pub target_precision: Option<f64>,
+    /// Score only shard `i` of `n` (0-based `i`): the blocks whose key value hashes to
+    /// `i`. A shard run writes pairs but no crosswalk; `merge` clusters all shards.
+    pub shard: Option<(usize, usize)>,
 }
 
 /// Candidate pairs of one blocking key.
@@ -97,8 +100,10 @@ pub struct RunSummary {
     pub estimate: Estimate,
     /// Pairs per decision: match, review, non-match.
     pub decisions: [u64; 3],
-    /// Customers (clusters) found.
+    /// Customers (clusters) found (0 for a shard run).
     pub customers: usize,
+    /// The shard scored, if the run was one shard of several.
+    pub shard: Option<(usize, usize)>,
     /// Merges refused by the clustering guards.
     pub refused_merges: usize,
     /// Files written.
@@ -146,7 +151,17 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
 
     let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
     let comparison = Comparison::new(&spec.compares, &table);
-    let tasks = blocking.tasks();
+    let mut tasks = blocking.tasks();
+    if let Some((i, n)) = opts.shard {
+        if opts.model.is_none() {
+            return Err(Error::Usage(
+                "a sharded run needs a model fitted on all the data: run `kinlink train` first \
+                 and pass it with --model"
+                    .into(),
+            ));
+        }
+        tasks.retain(|task| blocking.shard_of(task, n) == i);
+    }
     clock = t.record("block", clock);
 
     let (model, fitted) = match loaded_model {
@@ -180,27 +195,23 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     )?;
     clock = t.record("score + write pairs", clock);
 
-    let edges: Vec<Edge> = scored
-        .linked
-        .iter()
-        .filter(|p| p.decision == Decision::Match)
-        .map(|p| Edge {
-            a: p.a,
-            b: p.b,
-            weight: p.weight,
-        })
-        .collect();
-    let guards = guards_of(spec, &table);
-    let clusters = cluster(table.len(), &edges, &table.source, &guards);
-    let keys = crate::keys::assign(&table, &clusters.label);
-    clock = t.record("cluster + keys", clock);
-
-    let mut w = staging.csv("crosswalk.csv")?;
-    w.row(&["source", "source_id", "customer_key"])?;
-    for (r, key) in keys.iter().enumerate() {
-        w.row(&[table.source_name(r), table.id[r].as_str(), key.as_str()])?;
-    }
-    w.finish()?;
+    let clusters = if opts.shard.is_some() {
+        None
+    } else {
+        let edges: Vec<Edge> = scored
+            .linked
+            .iter()
+            .filter(|p| p.decision == Decision::Match)
+            .map(|p| Edge {
+                a: p.a,
+                b: p.b,
+                weight: p.weight,
+            })
+            .collect();
+        let c = cluster_and_write(spec, &table, &edges, &mut staging)?;
+        clock = t.record("cluster + keys", clock);
+        Some(c)
+    };
     write_review(
         &mut staging,
         &table,
@@ -211,33 +222,6 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     )?;
     let mut w = staging.csv("rejects.csv")?;
     write_rejects(&mut w, &loaded.rejects)?;
-    w.finish()?;
-    let mut w = staging.csv("refused.csv")?;
-    w.row(&[
-        "source_a",
-        "id_a",
-        "source_b",
-        "id_b",
-        "match_weight",
-        "reason",
-    ])?;
-    let unique_names: Vec<String> = spec
-        .cluster
-        .unique
-        .iter()
-        .map(|a| a.name().to_string())
-        .collect();
-    for (e, why) in &clusters.refused {
-        let (a, b) = (e.a as usize, e.b as usize);
-        w.row(&[
-            table.source_name(a),
-            table.id[a].as_str(),
-            table.source_name(b),
-            table.id[b].as_str(),
-            &format!("{:.4}", e.weight),
-            &why.reason(&unique_names),
-        ])?;
-    }
     w.finish()?;
     let model_path = staging.path("model.toml");
     model.save(&model_path)?;
@@ -266,10 +250,159 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         classifier,
         decisions: scored.decisions,
         estimate: scored.histogram.estimate(classifier.upper),
+        customers: clusters.as_ref().map_or(0, |c| c.count()),
+        refused_merges: clusters.as_ref().map_or(0, |c| c.refused.len()),
+        shard: opts.shard,
+        outputs,
+        timings: t,
+    })
+}
+
+/// Cluster matched edges with the spec's guards, assign keys, and stage
+/// `crosswalk.csv` and `refused.csv`.
+fn cluster_and_write(
+    spec: &Spec,
+    table: &RecordTable,
+    edges: &[Edge],
+    staging: &mut Staging,
+) -> Result<crate::cluster::Clusters> {
+    let guards = guards_of(spec, table);
+    let clusters = cluster(table.len(), edges, &table.source, &guards);
+    let keys = crate::keys::assign(table, &clusters.label);
+    let mut w = staging.csv("crosswalk.csv")?;
+    w.row(&["source", "source_id", "customer_key"])?;
+    for (r, key) in keys.iter().enumerate() {
+        w.row(&[table.source_name(r), table.id[r].as_str(), key.as_str()])?;
+    }
+    w.finish()?;
+    let mut w = staging.csv("refused.csv")?;
+    w.row(&[
+        "source_a",
+        "id_a",
+        "source_b",
+        "id_b",
+        "match_weight",
+        "reason",
+    ])?;
+    let unique: Vec<String> = spec
+        .cluster
+        .unique
+        .iter()
+        .map(|a| a.name().to_string())
+        .collect();
+    for (e, why) in &clusters.refused {
+        let (a, b) = (e.a as usize, e.b as usize);
+        w.row(&[
+            table.source_name(a),
+            table.id[a].as_str(),
+            table.source_name(b),
+            table.id[b].as_str(),
+            &e.weight.to_string(),
+            &why.reason(&unique),
+        ])?;
+    }
+    w.finish()?;
+    Ok(clusters)
+}
+
+/// What `merge` did.
+#[derive(Debug, Clone)]
+pub struct MergeSummary {
+    /// Records linked.
+    pub records: usize,
+    /// Matched pairs read from the shards.
+    pub match_pairs: u64,
+    /// Customers found.
+    pub customers: usize,
+    /// Merges refused by the guards.
+    pub refused_merges: usize,
+    /// Files written.
+    pub outputs: Vec<PathBuf>,
+}
+
+/// Cluster the matched pairs of several shard runs (their `pairs.csv`) into one
+/// crosswalk, exactly as an unsharded run would.
+pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path) -> Result<MergeSummary> {
+    let loaded = sources::load(spec)?;
+    let table = loaded.table;
+    let mut index: std::collections::HashMap<(&str, &str), u32> =
+        std::collections::HashMap::with_capacity(table.len());
+    for r in 0..table.len() {
+        index.insert((table.source_name(r), table.id[r].as_str()), r as u32);
+    }
+    let mut edges = Vec::new();
+    for dir in shards {
+        let path = dir.join("pairs.csv");
+        let mut rdr = csv::Reader::from_path(&path).map_err(|e| Error::Csv {
+            path: path.clone(),
+            source: e,
+        })?;
+        let headers = rdr
+            .headers()
+            .map_err(|e| Error::Csv {
+                path: path.clone(),
+                source: e,
+            })?
+            .clone();
+        let col = |name: &str| {
+            headers.iter().position(|h| h == name).ok_or_else(|| {
+                Error::input(
+                    &path,
+                    format!("missing column `{name}`; is this a kinlink pairs file?"),
+                )
+            })
+        };
+        let cols = [
+            col("source_a")?,
+            col("id_a")?,
+            col("source_b")?,
+            col("id_b")?,
+        ];
+        let (wcol, dcol) = (col("match_weight")?, col("decision")?);
+        for row in rdr.records() {
+            let row = row.map_err(|e| Error::Csv {
+                path: path.clone(),
+                source: e,
+            })?;
+            if row.get(dcol) != Some("match") {
+                continue;
+            }
+            let line = row.position().map_or(0, |p| p.line());
+            let rec = |s: usize, i: usize| {
+                let key = (
+                    row.get(cols[s]).unwrap_or(""),
+                    row.get(cols[i]).unwrap_or(""),
+                );
+                index.get(&key).copied().ok_or_else(|| {
+                    Error::input(
+                        &path,
+                        format!(
+                            "line {line}: record `{}/{}` is not in the sources of this spec; \
+                             merge shards of the same spec and data",
+                            key.0, key.1
+                        ),
+                    )
+                })
+            };
+            let (a, b) = (rec(0, 1)?, rec(2, 3)?);
+            let weight: f64 = row.get(wcol).and_then(|w| w.parse().ok()).ok_or_else(|| {
+                Error::input(
+                    &path,
+                    format!("line {line}: `match_weight` is not a number"),
+                )
+            })?;
+            edges.push(Edge { a, b, weight });
+        }
+    }
+    let mut staging = Staging::new(out)?;
+    let clusters = cluster_and_write(spec, &table, &edges, &mut staging)?;
+    let outputs = staging.commit()?;
+    Ok(MergeSummary {
+        records: table.len(),
+        match_pairs: edges.len() as u64,
         customers: clusters.count(),
         refused_merges: clusters.refused.len(),
         outputs,
-        timings: t,
     })
 }
 
@@ -496,13 +629,7 @@ fn pair_line(
     push_field(text, table.source_name(b));
     text.push(',');
     push_field(text, &table.id[b]);
-    let _ = write!(
-        text,
-        ",{:.4},{:.6},{}",
-        w,
-        classifier.probability(w),
-        d.name()
-    );
+    let _ = write!(text, ",{},{:.6},{}", w, classifier.probability(w), d.name());
     for (k, c) in comparison.comparators.iter().enumerate() {
         text.push(',');
         push_field(text, c.level_name(g[k]));

@@ -151,3 +151,55 @@ fn plan_reports_pairs_and_completeness_per_key() {
     // Every true pair shares its postcode in this data: completeness 1.
     assert_eq!(cols[5], "1.0000", "{line}");
 }
+
+#[test]
+fn sharded_runs_merge_into_the_unsharded_crosswalk() {
+    let dir = mini_copy();
+    let d = dir.path();
+    let spec = d.join("spec.toml");
+    let model = d.join("model.toml");
+    let s = |p: &std::path::Path| p.to_str().unwrap().to_string();
+    let o = run(&["train", "--spec", &s(&spec), "--out", &s(&model)], None);
+    assert!(o.status.success(), "{}", text(&o).1);
+    let o = link(d, "whole", &["--model", &s(&model)], None);
+    assert!(o.status.success(), "{}", text(&o).1);
+    let mut shard_dirs = Vec::new();
+    for i in 1..=3 {
+        let name = format!("shard{i}");
+        let o = link(
+            d,
+            &name,
+            &["--model", &s(&model), "--shard", &format!("{i}/3")],
+            None,
+        );
+        assert!(o.status.success(), "{}", text(&o).1);
+        assert!(!d.join(&name).join("crosswalk.csv").exists());
+        shard_dirs.push(s(&d.join(&name)));
+    }
+    let merged = d.join("merged");
+    let mut args = vec![
+        "merge".to_string(),
+        "--spec".into(),
+        s(&spec),
+        "--out".into(),
+        s(&merged),
+    ];
+    args.extend(shard_dirs);
+    let argv: Vec<&str> = args.iter().map(String::as_str).collect();
+    let o = run(&argv, None);
+    assert!(o.status.success(), "{}", text(&o).1);
+    assert_eq!(
+        std::fs::read(d.join("whole/crosswalk.csv")).unwrap(),
+        std::fs::read(merged.join("crosswalk.csv")).unwrap()
+    );
+    // Every candidate pair is scored by exactly one shard.
+    let whole = read_csv(&d.join("whole/pairs.csv")).len() - 1;
+    let parts: usize = (1..=3)
+        .map(|i| read_csv(&d.join(format!("shard{i}/pairs.csv"))).len() - 1)
+        .sum();
+    assert_eq!(whole, parts);
+    // A shard run without a model is refused.
+    let o = link(d, "x", &["--shard", "1/2"], None);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(text(&o).1.contains("kinlink train"));
+}

@@ -157,6 +157,16 @@ impl Blocking {
         })
     }
 
+    /// The shard (of `n`) a task belongs to: a stable hash of its key and key value, so
+    /// all tasks of one block land in the same shard whatever the data order.
+    pub fn shard_of(&self, task: &Task, n: usize) -> usize {
+        let kb = &self.keys[task.key];
+        let mut bytes = kb.name.as_bytes().to_vec();
+        bytes.push(0);
+        bytes.extend_from_slice(kb.values[task.block as usize].as_bytes());
+        (crate::util::stable_hash(&bytes) % n.max(1) as u64) as usize
+    }
+
     /// Cut all blocks into tasks of about [`TASK_ROWS`] rows, in a fixed order.
     pub fn tasks(&self) -> Vec<Task> {
         let mut tasks = Vec::new();

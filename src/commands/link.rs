@@ -29,9 +29,27 @@ pub struct Args {
     /// Truth file (`source,source_id,entity_id`): print actual quality next to estimates.
     #[arg(long)]
     pub truth: Option<PathBuf>,
+    /// Score only shard I of N (e.g. `--shard 2/4`); needs --model. Combine the shards'
+    /// outputs with `kinlink merge`.
+    #[arg(long, value_name = "I/N", value_parser = parse_shard)]
+    pub shard: Option<(usize, usize)>,
     /// Print the time spent per stage.
     #[arg(long)]
     pub timings: bool,
+}
+
+/// Parse `I/N` with 1 ≤ I ≤ N into a 0-based shard index and the shard count.
+fn parse_shard(s: &str) -> Result<(usize, usize), String> {
+    let bad = || format!("`{s}`: write the shard as I/N with 1 <= I <= N, e.g. 2/4");
+    let (i, n) = s.split_once('/').ok_or_else(bad)?;
+    let (i, n): (usize, usize) = (
+        i.trim().parse().map_err(|_| bad())?,
+        n.trim().parse().map_err(|_| bad())?,
+    );
+    if i == 0 || i > n {
+        return Err(bad());
+    }
+    Ok((i - 1, n))
 }
 
 /// `--pairs` values.
@@ -59,6 +77,14 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         .with_context(|| {
             Hint("the spec keys are described in the README, section \"Spec reference\"".into())
         })?;
+    if args.shard.is_some() && args.truth.is_some() {
+        return Err(kinlink::Error::Usage(
+            "--truth needs a crosswalk, which a shard run does not write; evaluate the output \
+             of `kinlink merge` with `kinlink evaluate`"
+                .into(),
+        )
+        .into());
+    }
     if let Some(p) = args.target_precision {
         if !(p > 0.0 && p < 1.0) {
             return Err(kinlink::Error::Usage(format!(
@@ -68,6 +94,7 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         }
     }
     let opts = RunOptions {
+        shard: args.shard,
         target_precision: args.target_precision,
         out: args.out.clone(),
         model: args.model.clone(),

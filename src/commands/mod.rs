@@ -10,6 +10,7 @@ use clap::{Parser, Subcommand};
 pub mod demo;
 pub mod evaluate;
 pub mod link;
+pub mod merge;
 pub mod plan;
 pub mod summary;
 pub mod synth;
@@ -33,6 +34,8 @@ pub enum Command {
     Demo(demo::Args),
     /// Link the sources a spec names: crosswalk, pairs, review queue, rejects, model.
     Link(link::Args),
+    /// Cluster the matched pairs of several `link --shard` runs into one crosswalk.
+    Merge(merge::Args),
     /// Estimate candidate pairs per blocking key before comparing anything.
     Plan(plan::Args),
     /// Fit a model on the sources a spec names and save it, without linking.
@@ -106,6 +109,7 @@ pub fn main() -> ExitCode {
     let result = match &cli.command {
         Command::Demo(a) => demo::run(a, global),
         Command::Link(a) => link::run(a, global),
+        Command::Merge(a) => merge::run(a, global),
         Command::Plan(a) => plan::run(a, global),
         Command::Train(a) => train::run(a, global),
         Command::Synth(a) => synth::run(a, global),

@@ -1,0 +1,42 @@
+//! `kinlink merge`: cluster the matched pairs of several shard runs into one crosswalk.
+
+use std::path::PathBuf;
+
+use kinlink::pipeline;
+use kinlink::spec::Spec;
+
+use super::Global;
+
+/// Arguments of `kinlink merge`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The linkage spec the shards were run with.
+    #[arg(long)]
+    pub spec: PathBuf,
+    /// Output folder for crosswalk.csv and refused.csv.
+    #[arg(long)]
+    pub out: PathBuf,
+    /// Output folders of the shard runs (`kinlink link --shard I/N`).
+    #[arg(required = true)]
+    pub shards: Vec<PathBuf>,
+}
+
+/// Run `kinlink merge`.
+pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
+    let spec = Spec::load(&args.spec)?;
+    let s = pipeline::merge(&spec, &args.shards, &args.out)?;
+    if !global.quiet {
+        println!(
+            "merged {} shard(s): {} matched pairs, {} records, {} customers, {} merges refused",
+            args.shards.len(),
+            s.match_pairs,
+            s.records,
+            s.customers,
+            s.refused_merges
+        );
+        for p in &s.outputs {
+            println!("  {}", p.display());
+        }
+    }
+    Ok(())
+}
