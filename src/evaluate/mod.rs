@@ -35,8 +35,10 @@
 //! partitions imply exactly the same pairs, as in scikit-learn.
 
 use std::collections::{HashMap, HashSet};
+use std::hash::{BuildHasherDefault, Hasher};
 use std::path::Path;
 
+use crate::util::stable_hash;
 use crate::{Error, Result};
 
 /// How many example records the metrics keep for warnings.
@@ -57,14 +59,105 @@ impl std::fmt::Display for RecordRef {
     }
 }
 
+/// Hasher for keys that are already well mixed or small integers: SplitMix64
+/// finaliser, no per-process seed (inputs are the user's own files).
+#[derive(Default)]
+struct MixHasher(u64);
+
+impl Hasher for MixHasher {
+    fn finish(&self) -> u64 {
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        self.0 = stable_hash(bytes) ^ self.0.rotate_left(17);
+    }
+    fn write_u64(&mut self, v: u64) {
+        self.0 = self.0.rotate_left(17) ^ v;
+    }
+}
+
+type Mix = BuildHasherDefault<MixHasher>;
+
+const NONE: u32 = u32::MAX;
+
+/// Byte strings ↦ dense ids `0..len`, each string stored once in one buffer
+/// (memory grows with the bytes of the keys, not with per-key allocations).
+#[derive(Debug, Clone, Default)]
+struct Interner {
+    buf: Vec<u8>,
+    ends: Vec<usize>,
+    /// Key hash ↦ most recent id with that hash; `next` chains the others.
+    heads: HashMap<u64, u32, Mix>,
+    next: Vec<u32>,
+}
+
+impl Interner {
+    fn len(&self) -> usize {
+        self.ends.len()
+    }
+
+    fn key(&self, i: usize) -> &[u8] {
+        let start = if i == 0 { 0 } else { self.ends[i - 1] };
+        &self.buf[start..self.ends[i]]
+    }
+
+    fn get(&self, key: &[u8]) -> Option<u32> {
+        self.get_hashed(stable_hash(key), key)
+    }
+
+    fn get_hashed(&self, hash: u64, key: &[u8]) -> Option<u32> {
+        let mut i = *self.heads.get(&hash)?;
+        while i != NONE {
+            if self.key(i as usize) == key {
+                return Some(i);
+            }
+            i = self.next[i as usize];
+        }
+        None
+    }
+
+    /// Id of `key`, added if new; the flag says whether it was new.
+    fn intern(&mut self, key: &[u8]) -> Result<(u32, bool)> {
+        self.intern_hashed(stable_hash(key), key)
+    }
+
+    fn intern_hashed(&mut self, hash: u64, key: &[u8]) -> Result<(u32, bool)> {
+        if let Some(i) = self.get_hashed(hash, key) {
+            return Ok((i, false));
+        }
+        let id = u32::try_from(self.len())
+            .ok()
+            .filter(|&i| i != NONE)
+            .ok_or_else(|| Error::Usage("more than 4,294,967,294 distinct values".into()))?;
+        self.buf.extend_from_slice(key);
+        self.ends.push(self.buf.len());
+        let head = self.heads.insert(hash, id).unwrap_or(NONE);
+        self.next.push(head);
+        Ok((id, true))
+    }
+}
+
+/// Record key bytes: source, 0xFF, source id. 0xFF never occurs in UTF-8, so the
+/// split is unambiguous.
+fn record_key(buf: &mut Vec<u8>, source: &str, source_id: &str) {
+    buf.clear();
+    buf.extend_from_slice(source.as_bytes());
+    buf.push(0xFF);
+    buf.extend_from_slice(source_id.as_bytes());
+}
+
 /// Records assigned to groups: true entities (truth file) or predicted customers
 /// (crosswalk).
 #[derive(Debug, Clone, Default)]
 pub struct Grouping {
-    records: Vec<RecordRef>,
-    index: HashMap<RecordRef, u32>,
+    /// Record keys in file order; the id is the record's position.
+    records: Interner,
+    /// Group id per record.
     group: Vec<u32>,
-    group_ids: HashMap<String, u32>,
+    groups: Interner,
 }
 
 impl Grouping {
@@ -72,17 +165,15 @@ impl Grouping {
     pub fn from_rows<I, S>(rows: I) -> Result<Grouping>
     where
         I: IntoIterator<Item = (S, S, S)>,
-        S: Into<String>,
+        S: AsRef<str>,
     {
         let mut g = Grouping::default();
+        let mut key = Vec::new();
         for (i, (source, id, group)) in rows.into_iter().enumerate() {
-            let rec = RecordRef {
-                source: source.into(),
-                source_id: id.into(),
-            };
-            if let Some(first) = g.insert(rec.clone(), group.into())? {
+            let (source, id) = (source.as_ref(), id.as_ref());
+            if let Some(first) = g.insert(&mut key, source, id, group.as_ref())? {
                 return Err(Error::Usage(format!(
-                    "record `{rec}` appears twice (rows {} and {})",
+                    "record `{source}/{id}` appears twice (rows {} and {})",
                     first + 1,
                     i + 1
                 )));
@@ -92,48 +183,62 @@ impl Grouping {
     }
 
     /// Add a record; returns the position of an earlier copy (not added then).
-    fn insert(&mut self, rec: RecordRef, group: String) -> Result<Option<usize>> {
-        if let Some(&first) = self.index.get(&rec) {
-            return Ok(Some(first as usize));
+    fn insert(
+        &mut self,
+        key: &mut Vec<u8>,
+        source: &str,
+        source_id: &str,
+        group: &str,
+    ) -> Result<Option<usize>> {
+        record_key(key, source, source_id);
+        let (pos, new) = self.records.intern(key)?;
+        if !new {
+            return Ok(Some(pos as usize));
         }
-        let pos = u32::try_from(self.records.len())
-            .map_err(|_| Error::Usage("more than 4,294,967,295 records".into()))?;
-        let next = self.group_ids.len() as u32;
-        let gid = *self.group_ids.entry(group).or_insert(next);
-        self.index.insert(rec.clone(), pos);
-        self.records.push(rec);
+        let (gid, _) = self.groups.intern(group.as_bytes())?;
         self.group.push(gid);
         Ok(None)
     }
 
     /// Number of records.
     pub fn len(&self) -> usize {
-        self.records.len()
+        self.group.len()
     }
 
     /// True when there are no records.
     pub fn is_empty(&self) -> bool {
-        self.records.is_empty()
+        self.group.is_empty()
     }
 
     /// Number of distinct groups.
     pub fn n_groups(&self) -> usize {
-        self.group_ids.len()
+        self.groups.len()
     }
 
-    /// Records in file order.
-    pub fn records(&self) -> &[RecordRef] {
-        &self.records
+    /// The record at position `pos` (file order).
+    pub fn record(&self, pos: usize) -> Option<RecordRef> {
+        if pos >= self.len() {
+            return None;
+        }
+        let key = self.records.key(pos);
+        let cut = key.iter().position(|&b| b == 0xFF).unwrap_or(key.len());
+        Some(RecordRef {
+            source: String::from_utf8_lossy(&key[..cut]).into_owned(),
+            source_id: String::from_utf8_lossy(key.get(cut + 1..).unwrap_or_default()).into_owned(),
+        })
     }
 
     /// Position of a record, if present.
     pub fn position(&self, source: &str, source_id: &str) -> Option<usize> {
-        // The map is keyed by owned strings; build the key once per lookup.
-        let key = RecordRef {
-            source: source.to_owned(),
-            source_id: source_id.to_owned(),
-        };
-        self.index.get(&key).map(|&p| p as usize)
+        let mut key = Vec::new();
+        record_key(&mut key, source, source_id);
+        self.records.get(&key).map(|p| p as usize)
+    }
+
+    /// Group name of the record at position `pos`.
+    pub fn group_of(&self, pos: usize) -> Option<&str> {
+        let g = *self.group.get(pos)?;
+        std::str::from_utf8(self.groups.key(g as usize)).ok()
     }
 
     /// Group number (0-based, in order of first appearance) of the record at `pos`.
@@ -150,7 +255,7 @@ impl Grouping {
 /// Distinct candidate pairs read from a pairs file, as positions in the truth file.
 #[derive(Debug, Clone, Default)]
 pub struct CandidatePairs {
-    pairs: HashSet<u64>,
+    pairs: HashSet<u64, Mix>,
     /// Data rows read.
     pub rows: u64,
     /// Rows repeating a pair already seen (either order).
@@ -316,34 +421,37 @@ pub fn evaluate(truth: &Grouping, crosswalk: &Grouping) -> Metrics {
     let base = crosswalk.n_groups();
     let mut missing_cw = Vec::new();
     let mut missing_count = 0usize;
-    let predicted: Vec<usize> = truth
-        .records
-        .iter()
-        .enumerate()
-        .map(|(i, rec)| match crosswalk.index.get(rec) {
-            Some(&p) => crosswalk.group[p as usize] as usize,
+    let mut predicted: Vec<usize> = Vec::with_capacity(n);
+    for i in 0..n {
+        match crosswalk.records.get(truth.records.key(i)) {
+            Some(p) => predicted.push(crosswalk.group[p as usize] as usize),
             None => {
                 missing_count += 1;
                 if missing_cw.len() < EXAMPLES {
-                    missing_cw.push(rec.clone());
+                    missing_cw.extend(truth.record(i));
                 }
-                base + i
+                predicted.push(base + i);
             }
-        })
-        .collect();
-    let missing_tr: Vec<&RecordRef> = crosswalk
-        .records
-        .iter()
-        .filter(|r| !truth.index.contains_key(*r))
-        .collect();
+        }
+    }
+    let mut missing_tr = Vec::new();
+    let mut missing_tr_count = 0usize;
+    for i in 0..crosswalk.len() {
+        if truth.records.get(crosswalk.records.key(i)).is_none() {
+            missing_tr_count += 1;
+            if missing_tr.len() < EXAMPLES {
+                missing_tr.extend(crosswalk.record(i));
+            }
+        }
+    }
 
-    // Contingency table and margins.
-    let mut cells: HashMap<(usize, u32), u64> = HashMap::with_capacity(n);
+    // Contingency table (predicted cluster, true entity) and margins.
+    let mut cells: HashMap<u64, u64, Mix> = HashMap::with_capacity_and_hasher(n, Mix::default());
     let mut a = vec![0u64; base + n]; // predicted cluster sizes
     let mut b = vec![0u64; truth.n_groups()]; // true entity sizes
     for (i, &p) in predicted.iter().enumerate() {
         let t = truth.group[i];
-        *cells.entry((p, t)).or_insert(0) += 1;
+        *cells.entry((p as u64) << 32 | t as u64).or_insert(0) += 1;
         a[p] += 1;
         b[t as usize] += 1;
     }
@@ -360,10 +468,11 @@ pub fn evaluate(truth: &Grouping, crosswalk: &Grouping) -> Metrics {
 
     // B-cubed: Σ_r |C(r) ∩ T(r)| / |C(r)| = Σ_cells c² / a_cluster.
     let (mut bp, mut br) = (0.0, 0.0);
-    for (&(p, t), &c) in &cells {
+    for (&cell, &c) in &cells {
+        let (p, t) = ((cell >> 32) as usize, (cell & 0xFFFF_FFFF) as usize);
         let c = c as f64;
         bp += c * c / a[p] as f64;
-        br += c * c / b[t as usize] as f64;
+        br += c * c / b[t] as f64;
     }
     let bcubed = if n == 0 {
         Scores::new(1.0, 1.0)
@@ -377,8 +486,8 @@ pub fn evaluate(truth: &Grouping, crosswalk: &Grouping) -> Metrics {
         predicted_entities: a.iter().filter(|&&c| c > 0).count(),
         missing_from_crosswalk: missing_count,
         missing_from_crosswalk_examples: missing_cw,
-        missing_from_truth: missing_tr.len(),
-        missing_from_truth_examples: missing_tr.into_iter().take(EXAMPLES).cloned().collect(),
+        missing_from_truth: missing_tr_count,
+        missing_from_truth_examples: missing_tr,
         pairwise,
         bcubed,
         adjusted_rand_index: adjusted_rand_index(tp, predicted_pairs, true_pairs, n as u64),
@@ -531,13 +640,11 @@ fn read_grouping(path: &Path, group_col: &str) -> Result<Grouping> {
     let wanted = ["source", "source_id", group_col];
     let mut table = open_table(path, &wanted)?;
     let mut g = Grouping::default();
+    // Line of every record, to point at the first copy of a repeated record.
     let mut lines: Vec<u64> = Vec::new();
+    let mut key = Vec::new();
     table.for_each(path, &wanted, |line, v| {
-        let rec = RecordRef {
-            source: v[0].to_owned(),
-            source_id: v[1].to_owned(),
-        };
-        if let Some(first) = g.insert(rec, v[2].to_owned())? {
+        if let Some(first) = g.insert(&mut key, v[0], v[1], v[2])? {
             return Err(Error::input(
                 path,
                 format!(
@@ -573,17 +680,11 @@ pub fn read_pairs(path: impl AsRef<Path>, truth: &Grouping) -> Result<CandidateP
     let wanted = ["source_a", "id_a", "source_b", "id_b"];
     let mut table = open_table(path, &wanted)?;
     let mut pairs = CandidatePairs::default();
-    let mut key = RecordRef {
-        source: String::new(),
-        source_id: String::new(),
-    };
+    let mut key = Vec::new();
     table.for_each(path, &wanted, |_, v| {
         let mut lookup = |s: &str, id: &str| {
-            key.source.clear();
-            key.source.push_str(s);
-            key.source_id.clear();
-            key.source_id.push_str(id);
-            truth.index.get(&key).map(|&p| p as usize)
+            record_key(&mut key, s, id);
+            truth.records.get(&key).map(|p| p as usize)
         };
         match (lookup(v[0], v[1]), lookup(v[2], v[3])) {
             (Some(a), Some(b)) => {
@@ -772,6 +873,37 @@ mod tests {
         assert_eq!(m.pairwise.true_positives, 1);
         close("P", m.pairwise.scores.precision, 1.0);
         close("R", m.pairwise.scores.recall, 1.0 / 3.0);
+    }
+
+    #[test]
+    fn interner_resolves_hash_collisions() {
+        let mut t = Interner::default();
+        // Force every key onto the same hash to exercise the chain.
+        for (i, k) in ["a", "b", "", "ab"].iter().enumerate() {
+            assert_eq!(t.intern_hashed(7, k.as_bytes()).unwrap(), (i as u32, true));
+        }
+        for (i, k) in ["a", "b", "", "ab"].iter().enumerate() {
+            assert_eq!(t.get_hashed(7, k.as_bytes()), Some(i as u32));
+            assert_eq!(t.intern_hashed(7, k.as_bytes()).unwrap(), (i as u32, false));
+            assert_eq!(t.key(i), k.as_bytes());
+        }
+        assert_eq!(t.get_hashed(7, b"c"), None);
+        assert_eq!(t.len(), 4);
+    }
+
+    #[test]
+    fn grouping_gives_records_back() {
+        let g = Grouping::from_rows([("crm", "1", "E1"), ("web", "x,y", "E2"), ("", "", "E1")])
+            .unwrap();
+        assert_eq!((g.len(), g.n_groups()), (3, 2));
+        let r = g.record(1).unwrap();
+        assert_eq!((r.source.as_str(), r.source_id.as_str()), ("web", "x,y"));
+        assert_eq!(g.record(2).unwrap().to_string(), "/");
+        assert_eq!(g.position("web", "x,y"), Some(1));
+        assert_eq!(g.position("webx", ",y"), None);
+        assert_eq!(g.group_of(2), Some("E1"));
+        assert!(g.same_group(0, 2) && !g.same_group(0, 1) && !g.same_group(0, 9));
+        assert!(g.record(3).is_none());
     }
 
     #[test]

@@ -450,7 +450,8 @@ fn is_active(active: Option<&[bool]>, k: usize) -> bool {
 
 /// Match weight of one comparison vector: Σ_k log2(m_k(γ_k) / u_k(γ_k)) over the
 /// attributes that are not missing. Codes outside an attribute's levels (and
-/// attributes beyond the parameters) are treated as missing.
+/// attributes beyond the parameters) are treated as missing; to leave an attribute
+/// out of the weight, pass [`MISSING_LEVEL`] for it.
 pub fn match_weight(params: &Params, codes: &[u8]) -> f64 {
     codes
         .iter()
