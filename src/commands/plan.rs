@@ -40,7 +40,7 @@ pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
                     .map(|r| {
                         truth
                             .position(table.source_name(r), &table.id[r])
-                            .and_then(|pos| truth.group_of(pos))
+                            .and_then(|pos| truth.group_index(pos))
                             .unwrap_or_else(|| {
                                 next += 1;
                                 next

@@ -242,7 +242,7 @@ impl Grouping {
     }
 
     /// Group number (0-based, in order of first appearance) of the record at `pos`.
-    pub fn group_of(&self, pos: usize) -> Option<u32> {
+    pub fn group_index(&self, pos: usize) -> Option<u32> {
         self.group.get(pos).copied()
     }
 
