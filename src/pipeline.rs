@@ -23,6 +23,7 @@ use crate::record::RecordTable;
 use crate::sources::{self, SourceReport};
 use crate::spec::Spec;
 use crate::standardize::StdStats;
+use crate::util::Progress;
 
 /// Which scored pairs go to `pairs.csv`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -48,6 +49,8 @@ pub struct RunOptions {
     /// Score only shard `i` of `n` (0-based `i`): the blocks whose key value hashes to
     /// `i`. A shard run writes pairs but no crosswalk; `merge` clusters all shards.
     pub shard: Option<(usize, usize)>,
+    /// Show progress bars on stderr (only when it is a terminal).
+    pub progress: bool,
 }
 
 /// Candidate pairs of one blocking key.
@@ -139,7 +142,9 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         Some(p) => Some(Model::load(p, spec)?),
         None => None,
     };
-    let loaded = sources::load(spec)?;
+    let bar = Progress::counter(opts.progress, "read + standardize", "rows");
+    let loaded = sources::load_with(spec, &bar)?;
+    bar.finish();
     let table = loaded.table;
     if table.len() < 2 {
         return Err(Error::Usage(format!(
@@ -167,7 +172,14 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     let (model, fitted) = match loaded_model {
         Some(m) => (m, false),
         None => {
-            let counts = count_patterns(spec, &table, &blocking, &comparison, &tasks)?;
+            let counts = count_patterns(
+                spec,
+                &table,
+                &blocking,
+                &comparison,
+                &tasks,
+                &Progress::hidden(),
+            )?;
             clock = t.record("compare (count vectors)", clock);
             let (u, u_pairs) = model::estimate_u(
                 &table,
@@ -183,6 +195,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     let classifier = Classifier::new(spec.classify.thresholds, model.lambda);
 
     let mut staging = Staging::new(&opts.out)?;
+    let bar = Progress::bar(opts.progress, "score pairs", tasks.len() as u64, "tasks");
     let scored = score(
         &table,
         &blocking,
@@ -192,7 +205,9 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         &tasks,
         opts.pairs,
         &mut staging,
+        &bar,
     )?;
+    bar.finish();
     clock = t.record("score + write pairs", clock);
 
     let clusters = if opts.shard.is_some() {
@@ -431,6 +446,7 @@ fn count_patterns(
     blocking: &Blocking,
     comparison: &Comparison,
     tasks: &[Task],
+    progress: &Progress,
 ) -> Result<Vec<KeyCounts>> {
     let n_levels = comparison.n_levels();
     let n_keys = blocking.keys.len();
@@ -452,6 +468,7 @@ fn count_patterns(
                     }
                 });
                 err?;
+                progress.inc(1);
             }
             Ok(counts)
         })
@@ -520,6 +537,7 @@ fn score(
     tasks: &[Task],
     which: PairsOutput,
     staging: &mut Staging,
+    progress: &Progress,
 ) -> Result<Scored> {
     let scorer = model::Scorer::new(model, comparison, table);
     let mut out = staging.csv("pairs.csv")?;
@@ -573,6 +591,7 @@ fn score(
                             });
                         }
                     });
+                    progress.inc(1);
                 }
                 ChunkScore {
                     histogram,
@@ -733,7 +752,14 @@ pub fn train(spec: &Spec) -> Result<TrainSummary> {
     let comparison = Comparison::new(&spec.compares, &table);
     let tasks = blocking.tasks();
     let clock = t.record("block", clock);
-    let counts = count_patterns(spec, &table, &blocking, &comparison, &tasks)?;
+    let counts = count_patterns(
+        spec,
+        &table,
+        &blocking,
+        &comparison,
+        &tasks,
+        &Progress::hidden(),
+    )?;
     let clock = t.record("compare (count vectors)", clock);
     let (u, u_pairs) = model::estimate_u(
         &table,

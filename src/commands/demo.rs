@@ -25,6 +25,7 @@ pub struct Args {
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.data.join("spec.toml"))?;
     let opts = RunOptions {
+        progress: !global.quiet,
         out: args.out.clone(),
         ..Default::default()
     };

@@ -94,6 +94,7 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         }
     }
     let opts = RunOptions {
+        progress: !global.quiet,
         shard: args.shard,
         target_precision: args.target_precision,
         out: args.out.clone(),

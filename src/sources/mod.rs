@@ -16,6 +16,7 @@ use crate::error::{Error, Result};
 use crate::record::{Attr, RecordTable, RecordTableBuilder, StdRecord};
 use crate::spec::{SourceSpec, Spec};
 use crate::standardize::{standardize, StdStats};
+use crate::util::Progress;
 
 /// Rows standardized per parallel chunk.
 const CHUNK: usize = 32 * 1024;
@@ -59,13 +60,25 @@ pub struct Loaded {
 
 /// Read and standardize every source of `spec`.
 pub fn load(spec: &Spec) -> Result<Loaded> {
+    load_with(spec, &Progress::hidden())
+}
+
+/// [`load`], counting rows on `progress`.
+pub fn load_with(spec: &Spec, progress: &Progress) -> Result<Loaded> {
     let names = spec.sources.iter().map(|s| s.name.clone()).collect();
     let mut builder = RecordTableBuilder::new(names);
     let mut rejects = Vec::new();
     let mut reports = Vec::new();
     let mut stats = StdStats::default();
     for (i, src) in spec.sources.iter().enumerate() {
-        let report = load_source(src, i as u16, &mut builder, &mut rejects, &mut stats)?;
+        let report = load_source(
+            src,
+            i as u16,
+            &mut builder,
+            &mut rejects,
+            &mut stats,
+            progress,
+        )?;
         reports.push(report);
     }
     Ok(Loaded {
@@ -88,6 +101,7 @@ fn load_source(
     builder: &mut RecordTableBuilder,
     rejects: &mut Vec<Reject>,
     stats: &mut StdStats,
+    progress: &Progress,
 ) -> Result<SourceReport> {
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
@@ -179,6 +193,7 @@ fn load_source(
             raw,
         });
         if chunk.len() == CHUNK {
+            progress.inc(CHUNK as u64);
             flush(&mut chunk, src, index, builder, stats);
         }
     }

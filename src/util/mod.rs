@@ -1,5 +1,8 @@
-//! Small shared helpers: a deterministic random number generator and stable hashing.
+//! Small shared helpers: a deterministic random number generator, stable hashing and
+//! progress display.
 
+pub mod progress;
 pub mod rng;
 
+pub use progress::Progress;
 pub use rng::{stable_hash, Rng};
