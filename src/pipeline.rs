@@ -776,6 +776,151 @@ pub fn train(spec: &Spec) -> Result<TrainSummary> {
     })
 }
 
+/// Fit the "oracle" model from true labels, for comparison with the unsupervised fit:
+/// m from the level frequencies among the candidate pairs that are true matches
+/// (smoothed like EM's m), u from the same random pairs as the unsupervised fit, and λ
+/// from the true matches among the candidates. `entity` gives each record's entity, in
+/// table order; see [`entities_from_truth`].
+pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<TrainSummary> {
+    use std::sync::atomic::{AtomicU64, Ordering};
+    let mut t = Timings::default();
+    let clock = Instant::now();
+    let loaded = sources::load(spec)?;
+    let table = loaded.table;
+    let entity = entities_from_truth(&table, truth);
+    let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
+    let comparison = Comparison::new(&spec.compares, &table);
+    let tasks = blocking.tasks();
+    let clock = t.record("read + block", clock);
+    let n_levels = comparison.n_levels();
+    let k = comparison.len();
+    let per_key: Vec<(AtomicU64, AtomicU64)> = blocking
+        .keys
+        .iter()
+        .map(|_| (AtomicU64::new(0), AtomicU64::new(0)))
+        .collect();
+    let level_counts: Vec<Vec<Vec<u64>>> = chunks(&tasks)
+        .into_par_iter()
+        .map(|chunk| {
+            let mut counts: Vec<Vec<u64>> = n_levels.iter().map(|&l| vec![0; l]).collect();
+            let mut scratch = comparison.scratch();
+            for task in chunk {
+                let (mut pairs, mut matches) = (0u64, 0u64);
+                blocking.for_each_pair(task, |a, b| {
+                    pairs += 1;
+                    if entity[a as usize] != entity[b as usize] {
+                        return;
+                    }
+                    matches += 1;
+                    let g = comparison.gamma(&table, a, b, &mut scratch);
+                    for (kk, row) in counts.iter_mut().enumerate().take(k) {
+                        if g[kk] != crate::compare::MISSING_LEVEL {
+                            row[g[kk] as usize] += 1;
+                        }
+                    }
+                });
+                per_key[task.key].0.fetch_add(pairs, Ordering::Relaxed);
+                per_key[task.key].1.fetch_add(matches, Ordering::Relaxed);
+            }
+            counts
+        })
+        .collect();
+    let mut counts: Vec<Vec<u64>> = n_levels.iter().map(|&l| vec![0; l]).collect();
+    for part in level_counts {
+        for (row, prow) in counts.iter_mut().zip(part) {
+            for (x, y) in row.iter_mut().zip(prow) {
+                *x += y;
+            }
+        }
+    }
+    let (u, u_pairs) = model::estimate_u(
+        &table,
+        &comparison,
+        spec.model.u_sample_pairs,
+        spec.model.seed,
+    );
+    let mut blocks = Vec::new();
+    let (mut cand, mut matches) = (0u64, 0u64);
+    for (kb, (p, m)) in blocking.keys.iter().zip(&per_key) {
+        let (p, m) = (p.load(Ordering::Relaxed), m.load(Ordering::Relaxed));
+        cand += p;
+        matches += m;
+        blocks.push(model::BlockFit {
+            name: kb.name.clone(),
+            pairs: p,
+            patterns: 0,
+            lambda: if p == 0 { 0.0 } else { m as f64 / p as f64 },
+            excluded: Vec::new(),
+            iterations: 0,
+            converged: true,
+            loglik_trace: Vec::new(),
+        });
+    }
+    let n = table.len() as u64;
+    let all = (n * n.saturating_sub(1) / 2).max(1) as f64;
+    let attribute: Vec<model::AttrModel> = comparison
+        .comparators
+        .iter()
+        .enumerate()
+        .map(|(kk, c)| {
+            let row = &counts[kk];
+            let total: u64 = row.iter().sum();
+            let denom = total as f64 + model::M_SMOOTHING * row.len() as f64;
+            let m: Vec<f64> = row
+                .iter()
+                .map(|&x| (x as f64 + model::M_SMOOTHING) / denom)
+                .collect();
+            let weight = m.iter().zip(&u[kk]).map(|(m, u)| (m / u).log2()).collect();
+            model::AttrModel {
+                attribute: c.attr.name().to_string(),
+                levels: c.names.clone(),
+                m,
+                u: u[kk].clone(),
+                weight,
+                frequency: spec.compares[kk].frequency,
+            }
+        })
+        .collect();
+    let warnings = model::level_warnings(&attribute);
+    let fitted = Model {
+        format: "kinlink-model".into(),
+        version: model::MODEL_VERSION,
+        spec_fingerprint: spec.model_fingerprint(),
+        spec_layout: spec.model_layout(),
+        lambda: (matches as f64 / all).clamp(1e-12, 0.5),
+        records: n,
+        candidate_pairs: cand,
+        expected_matches: matches as f64,
+        u_sample_pairs: u_pairs,
+        attribute,
+        block: blocks,
+        warnings,
+    };
+    t.record("oracle fit", clock);
+    Ok(TrainSummary {
+        model: fitted,
+        sources: loaded.reports,
+        timings: t,
+    })
+}
+
+/// Each record's entity number from a truth file; records missing from the truth get
+/// an entity of their own.
+pub fn entities_from_truth(table: &RecordTable, truth: &crate::evaluate::Grouping) -> Vec<u32> {
+    let mut next = truth.n_groups() as u32;
+    (0..table.len())
+        .map(|r| {
+            truth
+                .position(table.source_name(r), &table.id[r])
+                .and_then(|pos| truth.group_index(pos))
+                .unwrap_or_else(|| {
+                    next += 1;
+                    next
+                })
+        })
+        .collect()
+}
+
 /// Read a spec and run it (convenience for commands and tests).
 pub fn run_spec(spec_path: &Path, opts: &RunOptions) -> Result<(Spec, RunSummary)> {
     let spec = Spec::load(spec_path)?;

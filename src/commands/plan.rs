@@ -4,6 +4,7 @@ use std::path::PathBuf;
 
 use kinlink::block::{self, Blocking};
 use kinlink::evaluate;
+use kinlink::pipeline;
 use kinlink::sources;
 use kinlink::spec::Spec;
 
@@ -31,24 +32,10 @@ pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
     let blocking = Blocking::build(table, &spec.blocks, u64::MAX)?;
     let entity: Option<Vec<u32>> = match &args.truth {
         None => None,
-        Some(p) => {
-            let truth = evaluate::read_truth(p)?;
-            let mut next = truth.n_groups() as u32;
-            // Records missing from the truth count as entities of their own.
-            Some(
-                (0..table.len())
-                    .map(|r| {
-                        truth
-                            .position(table.source_name(r), &table.id[r])
-                            .and_then(|pos| truth.group_index(pos))
-                            .unwrap_or_else(|| {
-                                next += 1;
-                                next
-                            })
-                    })
-                    .collect(),
-            )
-        }
+        Some(p) => Some(pipeline::entities_from_truth(
+            table,
+            &evaluate::read_truth(p)?,
+        )),
     };
     let plans = block::plan(&blocking, entity.as_deref(), args.top);
     let n = table.len() as u64;

@@ -16,15 +16,25 @@ pub struct Args {
     /// Where to write the model file (TOML), e.g. models/mydata.toml.
     #[arg(long)]
     pub out: PathBuf,
+    /// Fit from true labels instead of EM (the "oracle" model, to measure how close the
+    /// unsupervised fit comes): truth file `source,source_id,entity_id`.
+    #[arg(long)]
+    pub oracle_truth: Option<PathBuf>,
 }
 
 /// Run `kinlink train`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
-    let t = pipeline::train(&spec)?;
+    let t = match &args.oracle_truth {
+        None => pipeline::train(&spec)?,
+        Some(p) => pipeline::train_oracle(&spec, &kinlink::evaluate::read_truth(p)?)?,
+    };
     t.model.save(&args.out)?;
     if !global.quiet {
         let records: u64 = t.sources.iter().map(|s| s.accepted).sum();
+        if args.oracle_truth.is_some() {
+            println!("oracle fit from true labels (for comparison only; not for production use)");
+        }
         println!(
             "fitted on {records} records and {} candidate pairs: λ = {:.3e}, {} EM iterations",
             t.model.candidate_pairs,
