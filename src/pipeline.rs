@@ -921,6 +921,99 @@ pub fn entities_from_truth(table: &RecordTable, truth: &crate::evaluate::Groupin
         .collect()
 }
 
+/// One attribute's part in an explanation.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ExplainedAttr {
+    /// Attribute name.
+    pub attribute: String,
+    /// Standardized value of the first record.
+    pub value_a: Option<String>,
+    /// Standardized value of the second record.
+    pub value_b: Option<String>,
+    /// Level reached (`missing` when a side has no value).
+    pub level: String,
+    /// Weight added (bits).
+    pub weight: f64,
+}
+
+/// Why two records get the decision they get.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Explanation {
+    /// Per compared attribute.
+    pub attrs: Vec<ExplainedAttr>,
+    /// Total match weight.
+    pub weight: f64,
+    /// Match probability.
+    pub probability: f64,
+    /// The decision at the spec's thresholds.
+    pub decision: Decision,
+    /// Names of the blocking keys that put the two records in one block.
+    pub blocked_by: Vec<String>,
+}
+
+/// Compare two records (by source name and id) with `model` and explain the result.
+pub fn explain(
+    spec: &Spec,
+    model: &Model,
+    a: (&str, &str),
+    b: (&str, &str),
+) -> Result<Explanation> {
+    let loaded = sources::load(spec)?;
+    let table = loaded.table;
+    let find = |(src, id): (&str, &str)| {
+        if spec.source_index(src).is_none() {
+            let names: Vec<&str> = spec.sources.iter().map(|s| s.name.as_str()).collect();
+            return Err(Error::Usage(format!(
+                "`{src}` is not a source of this spec; the sources are {}",
+                names.join(", ")
+            )));
+        }
+        (0..table.len())
+            .find(|&r| table.source_name(r) == src && table.id[r] == id)
+            .map(|r| r as u32)
+            .ok_or_else(|| {
+                Error::Usage(format!(
+                    "no record `{id}` in source `{src}` (or it was rejected)"
+                ))
+            })
+    };
+    let (ra, rb) = (find(a)?, find(b)?);
+    let blocking = Blocking::build(&table, &spec.blocks, u64::MAX)?;
+    let comparison = Comparison::new(&spec.compares, &table);
+    let scorer = model::Scorer::new(model, &comparison, &table);
+    let classifier = Classifier::new(spec.classify.thresholds, model.lambda);
+    let g = comparison.gamma(&table, ra, rb, &mut comparison.scratch());
+    let attrs = comparison
+        .comparators
+        .iter()
+        .enumerate()
+        .map(|(k, c)| ExplainedAttr {
+            attribute: c.attr.name().to_string(),
+            value_a: table.get(ra as usize, c.attr).map(String::from),
+            value_b: table.get(rb as usize, c.attr).map(String::from),
+            level: c.level_name(g[k]).to_string(),
+            weight: scorer.contribution(k, g[k], ra),
+        })
+        .collect();
+    let weight = scorer.weight(&g, ra);
+    let blocked_by = blocking
+        .keys
+        .iter()
+        .filter(|kb| {
+            let x = kb.key_of[ra as usize];
+            x != crate::block::NO_KEY && x == kb.key_of[rb as usize]
+        })
+        .map(|kb| kb.name.clone())
+        .collect();
+    Ok(Explanation {
+        attrs,
+        weight,
+        probability: classifier.probability(weight),
+        decision: classifier.decide(weight),
+        blocked_by,
+    })
+}
+
 /// Read a spec and run it (convenience for commands and tests).
 pub fn run_spec(spec_path: &Path, opts: &RunOptions) -> Result<(Spec, RunSummary)> {
     let spec = Spec::load(spec_path)?;

@@ -203,3 +203,39 @@ fn sharded_runs_merge_into_the_unsharded_crosswalk() {
     assert_eq!(o.status.code(), Some(2));
     assert!(text(&o).1.contains("kinlink train"));
 }
+
+#[test]
+fn explain_shows_levels_values_and_weights() {
+    let dir = mini_copy();
+    let d = dir.path();
+    let spec = d.join("spec.toml").to_str().unwrap().to_string();
+    let model = d.join("m.toml").to_str().unwrap().to_string();
+    assert!(run(&["train", "--spec", &spec, "--out", &model], None)
+        .status
+        .success());
+    let o = run(
+        &[
+            "explain", "--spec", &spec, "--model", &model, "crm:c1", "shop:s1",
+        ],
+        None,
+    );
+    let (out, err) = text(&o);
+    assert!(o.status.success(), "{err}");
+    let email = out.lines().find(|l| l.starts_with("email")).unwrap();
+    assert!(
+        email.contains("anna.berglund@example.org") && email.contains("exact"),
+        "{out}"
+    );
+    assert!(
+        out.contains("total weight") && out.contains("postcode, email"),
+        "{out}"
+    );
+    let o = run(
+        &[
+            "explain", "--spec", &spec, "--model", &model, "erp:1", "shop:s1",
+        ],
+        None,
+    );
+    assert_eq!(o.status.code(), Some(2));
+    assert!(text(&o).1.contains("crm, shop"), "{}", text(&o).1);
+}

@@ -9,6 +9,7 @@ use clap::{Parser, Subcommand};
 
 pub mod demo;
 pub mod evaluate;
+pub mod explain;
 pub mod link;
 pub mod merge;
 pub mod plan;
@@ -32,6 +33,8 @@ pub struct Cli {
 pub enum Command {
     /// Run the whole pipeline on the shipped demo data and evaluate it against its truth.
     Demo(demo::Args),
+    /// Explain the comparison of two records, attribute by attribute.
+    Explain(explain::Args),
     /// Link the sources a spec names: crosswalk, pairs, review queue, rejects, model.
     Link(link::Args),
     /// Cluster the matched pairs of several `link --shard` runs into one crosswalk.
@@ -108,6 +111,7 @@ pub fn main() -> ExitCode {
     let global = Global { quiet: cli.quiet };
     let result = match &cli.command {
         Command::Demo(a) => demo::run(a, global),
+        Command::Explain(a) => explain::run(a, global),
         Command::Link(a) => link::run(a, global),
         Command::Merge(a) => merge::run(a, global),
         Command::Plan(a) => plan::run(a, global),
