@@ -1,5 +1,10 @@
 //! `kinlink synth`: generate multi-source customer data with ground truth.
 
+use std::time::Instant;
+
+use anyhow::Context;
+use kinlink::synth::{self, NoiseConfig, SynthConfig};
+
 use super::Global;
 
 /// Arguments of `kinlink synth`.
@@ -17,7 +22,33 @@ pub struct Args {
 }
 
 /// Run `kinlink synth`.
-pub fn run(_args: &Args, global: Global) -> anyhow::Result<()> {
-    let _ = global.quiet;
-    anyhow::bail!("`kinlink synth` is being written")
+pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
+    let cfg = SynthConfig {
+        customers: args.customers,
+        seed: args.seed,
+        noise: NoiseConfig::default(),
+    };
+    cfg.check()?;
+    let started = Instant::now();
+    if !global.quiet {
+        eprintln!(
+            "generating {} customers (seed {}) ...",
+            cfg.customers, cfg.seed
+        );
+    }
+    let data = synth::generate(&cfg);
+    if !global.quiet {
+        eprintln!(
+            "generated {} records in {:.1} s; writing ...",
+            data.records(),
+            started.elapsed().as_secs_f64()
+        );
+    }
+    let summary = synth::write_dataset(&data, &args.out)
+        .with_context(|| format!("writing the synthetic data to `{}`", args.out.display()))?;
+    print!("{summary}");
+    if !global.quiet {
+        eprintln!("done in {:.1} s", started.elapsed().as_secs_f64());
+    }
+    Ok(())
 }
