@@ -38,7 +38,7 @@
 //! over the window is used. [`JaroMatcher`] keeps the pattern masks of one query string for
 //! one-against-many comparison.
 
-use super::masks::{low_bits, AsciiMasks, CharMasks, MAX_BITS};
+use super::masks::{low_bits, with_ascii_masks, CharMasks, MAX_BITS};
 
 /// Winkler's prefix scale `p` (Winkler 1990; the default of strsim, jellyfish, rapidfuzz).
 pub const WINKLER_PREFIX_SCALE: f64 = 0.1;
@@ -58,8 +58,14 @@ pub fn jaro(a: &str, b: &str) -> f64 {
         let (a, b) = (a.as_bytes(), b.as_bytes());
         let (p, t) = if a.len() <= b.len() { (a, b) } else { (b, a) };
         if p.len() <= MAX_BITS {
-            let masks = AsciiMasks::new(p);
-            return jaro_bits(p, |c| masks.get(c), t.iter().copied(), t.len());
+            return with_ascii_masks(p, |masks| {
+                jaro_bits(
+                    p,
+                    |c| masks[usize::from(c & 0x7f)],
+                    t.iter().copied(),
+                    t.len(),
+                )
+            });
         }
         return jaro_general(a, b);
     }
@@ -158,13 +164,14 @@ where
             break;
         }
         let candidates = masks(c) & window & !used;
-        if candidates != 0 {
-            used |= candidates & candidates.wrapping_neg();
-            matched[m & (MAX_BITS - 1)] = c;
-            m += 1;
-            if m == p_len {
-                break;
-            }
+        // Branch-free: whether a symbol matches is unpredictable for real names.
+        let lowest = candidates & candidates.wrapping_neg();
+        used |= lowest;
+        matched[m & (MAX_BITS - 1)] = c;
+        m += usize::from(lowest != 0);
+        if m == p_len {
+            // Every pattern position is taken (and `matched` is full).
+            break;
         }
         window = if i < d {
             (window << 1) | 1
@@ -234,6 +241,8 @@ fn jaro_general<T: Copy + PartialEq>(a: &[T], b: &[T]) -> f64 {
 pub struct JaroMatcher {
     query: String,
     chars: Vec<char>,
+    /// The query is all ASCII, so all-ASCII candidates can be compared as bytes.
+    ascii: bool,
     /// Pattern masks of the query; `None` when it is longer than 64 characters.
     masks: Option<CharMasks>,
 }
@@ -254,6 +263,7 @@ impl JaroMatcher {
         JaroMatcher {
             query: query.to_owned(),
             chars,
+            ascii: query.is_ascii(),
             masks,
         }
     }
@@ -268,7 +278,7 @@ impl JaroMatcher {
         let Some(masks) = &self.masks else {
             return jaro(&self.query, text);
         };
-        if text.is_ascii() && self.query.is_ascii() {
+        if self.ascii && text.is_ascii() {
             let t = text.as_bytes();
             jaro_bits(
                 self.query.as_bytes(),
