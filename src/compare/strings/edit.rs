@@ -24,7 +24,7 @@
 //! operations. All-ASCII pairs work on bytes. When both sides exceed 64 characters a
 //! two-row dynamic programme is used.
 
-use super::masks::{with_ascii_masks, CharMasks, MAX_BITS};
+use super::masks::{is_ascii, with_ascii_masks, CharMasks, MAX_BITS};
 
 /// Levenshtein distance between `a` and `b` (in characters).
 ///
@@ -122,7 +122,7 @@ impl Distance for Osa {
 /// longer one is taken when it fits in a word, which leaves the shorter one to loop over.
 #[inline(always)]
 fn drive<D: Distance>(dist: &D, a: &str, b: &str) -> Option<usize> {
-    if a.is_ascii() && b.is_ascii() {
+    if is_ascii(a) && is_ascii(b) {
         let (a, b) = strip_affix(a.as_bytes(), b.as_bytes());
         let (short, long) = if a.len() <= b.len() { (a, b) } else { (b, a) };
         if long.len() - short.len() > dist.max() {
