@@ -14,15 +14,14 @@
 //!
 //! A common prefix and suffix cannot change either distance and is cut first. The longer
 //! side, if it has at most 64 characters, else the shorter one, becomes the pattern,
-//! described by one `u64` of positions per character, and a column of the dynamic-programming matrix is kept as two
-//! words of vertical +1/−1 deltas: Myers (1999, "A fast bit-vector algorithm for approximate
-//! string matching based on dynamic programming", JACM 46:395–415) in the formulation of
-//! Hyyrö (2001, "Explaining and extending the bit-parallel approximate string matching
-//! algorithm of Myers"), and Hyyrö (2003, "A bit-vector algorithm for computing
-//! Levenshtein and Damerau edit distances", Nordic J. Computing 10:29–39) for the
-//! transposition term. Each character of the other string then costs a dozen word
-//! operations. All-ASCII pairs work on bytes. When both sides exceed 64 characters a
-//! two-row dynamic programme is used.
+//! described by one `u64` of positions per character, and a column of the
+//! dynamic-programming matrix is kept as two words of vertical +1/−1 deltas: Myers (1999,
+//! "A fast bit-vector algorithm for approximate string matching based on dynamic
+//! programming", JACM 46:395–415) in Hyyrö's formulation for global distance, and Hyyrö
+//! (2003, "A bit-vector algorithm for computing Levenshtein and Damerau edit distances",
+//! Nordic J. Computing 10:29–39) for the transposition term (references from memory). Each
+//! character of the other string then costs about a dozen word operations. All-ASCII pairs
+//! work on bytes. When both sides exceed 64 characters a two-row dynamic programme is used.
 
 use super::masks::{is_ascii, with_ascii_masks, CharMasks, MAX_BITS};
 
