@@ -30,13 +30,15 @@
 //! # How it is fast
 //!
 //! The greedy matching is symmetric (the same positions are matched whichever string drives
-//! it), so the shorter string becomes the *pattern*. When it has at most 64 characters, one
+//! it; the property tests compare both argument orders with strsim bit for bit), so the
+//! shorter string becomes the *pattern*. When it has at most 64 characters, one
 //! `u64` per distinct character records where it occurs; the window is a sliding bit mask and
 //! "first unmatched equal character in the window" is the lowest set bit of
 //! `mask[c] & window & !used`. All-ASCII pairs work on bytes with a 128-entry table; other
 //! pairs decode `char`s once. When both strings are longer than 64 characters a plain loop
-//! over the window is used. [`JaroMatcher`] keeps the pattern masks of one query string for
-//! one-against-many comparison.
+//! over the window is used. The three ratios of the formula come from a table filled at
+//! compile time (same bits as dividing). [`JaroMatcher`] keeps the pattern masks of one query
+//! string for one-against-many comparison.
 
 use super::masks::{is_ascii, low_bits, with_ascii_masks, CharMasks, MAX_BITS};
 
