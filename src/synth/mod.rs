@@ -652,21 +652,36 @@ fn pick_sources(rng: &mut Rng, cfg: &NoiseConfig, home: Source) -> Vec<Source> {
     } else {
         1
     };
-    let others: Vec<Source> = Source::ALL.iter().copied().filter(|&s| s != home).collect();
+    // The two other sources, the more likely second source first: North-American and
+    // British customers shop online more than they call; continental customers are
+    // split evenly between the CRM and the support desk.
+    let others: [Source; 2] = match home {
+        Source::Crm => [Source::Webshop, Source::Support],
+        Source::Support => [Source::Webshop, Source::Crm],
+        Source::Webshop => [Source::Crm, Source::Support],
+    };
+    let first_weight = if home == Source::Webshop { 0.5 } else { 0.6 };
+    let other = |rng: &mut Rng| {
+        if rng.chance(first_weight) {
+            others[0]
+        } else {
+            others[1]
+        }
+    };
     match k {
         3 => Source::ALL.to_vec(),
         2 => {
-            if rng.chance(0.85) {
-                vec![home, *rng.pick(&others)]
+            if rng.chance(0.97) {
+                vec![home, other(rng)]
             } else {
-                others
+                others.to_vec()
             }
         }
         _ => {
-            if rng.chance(0.8) {
+            if rng.chance(0.97) {
                 vec![home]
             } else {
-                vec![*rng.pick(&others)]
+                vec![other(rng)]
             }
         }
     }
@@ -868,3 +883,6 @@ pub fn generate_with_people(cfg: &SynthConfig) -> (Dataset, Vec<Person>) {
     }
     (assemble(cfg, chunks), people)
 }
+
+#[cfg(test)]
+mod tests;
