@@ -7,6 +7,9 @@
 //! record: a name is combined at random with an invented address, birth date, phone
 //! and e-mail.
 
+use std::collections::HashMap;
+use std::sync::OnceLock;
+
 use crate::util::Rng;
 
 /// Sex of a generated person (chooses given names and courtesy titles).
@@ -532,10 +535,11 @@ pub fn courtesy_title(rng: &mut Rng, culture: Culture, sex: Sex) -> &'static str
 
 /// The informal forms of a given name (empty when none is known).
 pub fn nicknames(given: &str) -> &'static [&'static str] {
-    NICKNAMES
-        .iter()
-        .find(|(formal, _)| *formal == given)
-        .map(|(_, nicks)| *nicks)
+    static INDEX: OnceLock<HashMap<&'static str, &'static [&'static str]>> = OnceLock::new();
+    INDEX
+        .get_or_init(|| NICKNAMES.iter().copied().collect())
+        .get(given)
+        .copied()
         .unwrap_or(&[])
 }
 

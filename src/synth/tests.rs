@@ -484,3 +484,31 @@ fn writing_into_a_file_path_fails_with_the_path() {
     let e = write_dataset(&generate(&config(5, 1)), &file).unwrap_err();
     assert!(e.to_string().contains("occupied"), "{e}");
 }
+
+#[test]
+fn emails_are_unique_across_customers_except_household_sharing() {
+    let (_, people) = generate_with_people(&config(6000, 41));
+    let mut owner: HashMap<&str, u32> = HashMap::new();
+    for p in &people {
+        for e in std::iter::once(&p.email).chain(p.new_email.as_ref()) {
+            if let Some(&o) = owner.get(e.as_str()) {
+                assert_eq!(p.shares_email_of, Some(o), "{e} of {} and {o}", p.entity);
+                assert_eq!(e, &p.email);
+            } else {
+                owner.insert(e, p.entity);
+            }
+        }
+    }
+    assert!(people.iter().any(|p| p.shares_email_of.is_some()));
+}
+
+#[test]
+fn disambiguated_addresses_keep_their_domain() {
+    let mut taken = HashMap::new();
+    taken.insert("john.smith@gmail.com".to_string(), 0);
+    let a = disambiguate(1, 7, 0, "john.smith@gmail.com", &taken);
+    assert!(
+        a.starts_with("john.smith") && a.ends_with("@gmail.com") && a != "john.smith@gmail.com"
+    );
+    assert_eq!(a, disambiguate(1, 7, 0, "john.smith@gmail.com", &taken));
+}
