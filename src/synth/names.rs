@@ -265,7 +265,7 @@ const SPANISH: Pools = Pools {
     ],
     courtesy_female: &["Sra.", "Sra", "Dña."],
     courtesy_male: &["Sr.", "Sr", "D."],
-    academic: &["Dr.", "Dra.", "Dr"],
+    academic: &["Dr.", "Dr"],
 };
 
 #[rustfmt::skip]
@@ -501,7 +501,11 @@ pub fn family_name(rng: &mut Rng, culture: Culture) -> String {
         let p = pools(culture);
         if rng.chance(0.3) {
             let a = rng.pick(p.rare_first);
-            let b = rng.pick(p.rare_second);
+            let mut b = rng.pick(p.rare_second);
+            // No stutters such as "Woodwood".
+            while a.to_lowercase().ends_with(&b.to_lowercase()) {
+                b = rng.pick(p.rare_second);
+            }
             format!("{a}{b}")
         } else {
             p.family[skewed_index(rng, p.family.len())].to_string()
