@@ -332,8 +332,11 @@ pub fn render(
                         PhoneStyle::International,
                         PhoneStyle::InternationalCompact,
                         PhoneStyle::InternationalTrunk,
+                        PhoneStyle::DoubleZero,
                     ];
-                    *dice.rng.pick(options)
+                    // "00" is how Europeans dial abroad; Americans do not write it.
+                    let n = options.len() - usize::from(p.country == Country::Us);
+                    *dice.rng.pick(&options[..n])
                 } else {
                     PhoneStyle::National
                 }
