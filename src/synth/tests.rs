@@ -507,3 +507,30 @@ fn disambiguated_addresses_keep_their_domain() {
     );
     assert_eq!(a, disambiguate(1, 7, 0, "john.smith@gmail.com", &taken));
 }
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(12))]
+
+    /// For any size and seed, the records partition into exactly the configured
+    /// customers: ids unique per source, every record one entity, every entity present,
+    /// at most two records per customer and source.
+    #[test]
+    fn records_partition_into_customers(customers in 0usize..2_500, seed in proptest::prelude::any::<u64>()) {
+        let data = generate(&config(customers, seed));
+        let mut seen = vec![false; customers];
+        let mut per_source: HashMap<(u32, Source), u8> = HashMap::new();
+        for s in Source::ALL {
+            let mut ids = HashSet::new();
+            for r in data.table(s).records() {
+                proptest::prop_assert!((r.entity as usize) < customers);
+                proptest::prop_assert!(ids.insert(r.id()));
+                proptest::prop_assert_eq!(r.values().count() + 1, s.header().len());
+                seen[r.entity as usize] = true;
+                *per_source.entry((r.entity, s)).or_default() += 1;
+            }
+        }
+        proptest::prop_assert!(seen.iter().all(|&b| b));
+        proptest::prop_assert!(per_source.values().all(|&n| n <= 2));
+        proptest::prop_assert_eq!(data.truth().count(), data.records());
+    }
+}
