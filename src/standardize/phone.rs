@@ -226,7 +226,25 @@ pub fn normalize_phone(raw: &str, region: Option<&str>) -> Cleaned {
         return Cleaned::Invalid;
     }
     let region = region.map(str::trim).filter(|r| !r.is_empty());
-    let parsed = match region {
+    // A number written with its country code (`+44 ...`, or the region's international
+    // prefix `00` / `011`) is parsed without a default region: phonenumber 0.3.10 strips
+    // a leading national `1` from `+44 141 ...` when the default region is US.
+    let nanp = region.is_some_and(is_nanp_fast_region);
+    let international = if let Some(rest) = raw.strip_prefix('+') {
+        Some(rest)
+    } else if nanp {
+        raw.strip_prefix("011")
+    } else {
+        raw.strip_prefix("00")
+    };
+    let parsed = match (region, international) {
+        (Some(r), _) if is_nanp_fast_region(r) && parse_nanp_fast(raw).is_some() => {
+            parse_nanp_fast(raw).map(|n| (1u16, String::from_utf8_lossy(&n).into_owned()))
+        }
+        (_, Some(rest)) => parse_with_crate(&format!("+{}", rest.trim_start()), None),
+        _ => None,
+    };
+    let parsed = parsed.or_else(|| match region {
         Some(r) if is_nanp_fast_region(r) => match parse_nanp_fast(raw) {
             Some(national) => {
                 let national = String::from_utf8_lossy(&national).into_owned();
@@ -240,7 +258,7 @@ pub fn normalize_phone(raw: &str, region: Option<&str>) -> Cleaned {
             Err(_) => parse_with_crate(raw, None),
         },
         None => parse_with_crate(raw, None),
-    };
+    });
     let Some((code, national)) = parsed else {
         return Cleaned::Invalid;
     };
@@ -318,6 +336,32 @@ mod tests {
                 "{raw} {region:?}"
             );
         }
+    }
+
+    #[test]
+    fn foreign_numbers_with_a_country_code_keep_it_whatever_the_default_region() {
+        // phonenumber 0.3.10 with default region US strips the `1` of `+44 141 ...`;
+        // expected values are the numbers as written (ITU-T E.164: + country code + national).
+        assert_eq!(
+            e164("+44 141 496 0369", Some("US")).as_deref(),
+            Some("+441414960369")
+        );
+        assert_eq!(
+            e164("+49 151 12345678", Some("US")).as_deref(),
+            Some("+4915112345678")
+        );
+        assert_eq!(
+            e164("011 44 141 496 0369", Some("US")).as_deref(),
+            Some("+441414960369")
+        );
+        assert_eq!(
+            e164("0044 141 496 0369", Some("DE")).as_deref(),
+            Some("+441414960369")
+        );
+        assert_eq!(
+            e164("+1 202-555-0143", Some("GB")).as_deref(),
+            Some("+12025550143")
+        );
     }
 
     #[test]
@@ -418,13 +462,21 @@ mod tests {
     #[test]
     fn normalize_agrees_with_crate() {
         // End to end, fast paths included, against the crate's parse + is_valid + E164.
+        // Numbers written with a country code are parsed by the crate without a default
+        // region (see the test above), so compare those with that parse.
         for (raw, region) in random_numbers(11, 3000) {
             let id: Id = region.parse().unwrap();
-            assert_eq!(
-                e164(&raw, Some(region)),
-                crate_e164(&raw, Some(id)),
-                "{raw} {region}"
-            );
+            let intl = match raw.strip_prefix('+') {
+                Some(rest) => Some(rest.to_string()),
+                None if ["US", "CA"].contains(&region) => raw.strip_prefix("011").map(String::from),
+                None => raw.strip_prefix("00").map(String::from),
+            };
+            let nanp_fast = ["US", "CA"].contains(&region) && parse_nanp_fast(&raw).is_some();
+            let expected = match intl {
+                Some(rest) if !nanp_fast => crate_e164(&format!("+{}", rest.trim_start()), None),
+                _ => crate_e164(&raw, Some(id)),
+            };
+            assert_eq!(e164(&raw, Some(region)), expected, "{raw} {region}");
         }
     }
 
