@@ -503,6 +503,33 @@ pub fn estimate_u(
     (u, drawn)
 }
 
+/// EM with m held at `m` and u, λ estimated (EM with the classes' roles swapped, using
+/// the fixed-u option): returns λ, u, iterations and the objective trace.
+fn conditional_fit(
+    counts: &em::PatternCounts,
+    m: &[Vec<f64>],
+    u0: &[Vec<f64>],
+    lambda0: f64,
+    opts: &em::EmOptions,
+) -> Option<(f64, Vec<Vec<f64>>, usize, Vec<f64>)> {
+    let swapped = em::Params {
+        lambda: (1.0 - lambda0).clamp(0.01, 0.99),
+        m: u0.to_vec(),
+        u: m.to_vec(),
+    };
+    let opts = em::EmOptions {
+        fix_u: true,
+        ..opts.clone()
+    };
+    let f = em::fit(counts, &swapped, &opts).ok()?;
+    Some((
+        1.0 - f.params.lambda,
+        f.params.m,
+        f.iterations,
+        f.loglik_trace,
+    ))
+}
+
 /// Inputs of [`fit`] for one blocking key.
 #[derive(Debug)]
 pub struct KeyCounts {
@@ -667,6 +694,44 @@ pub fn fit(
             }
         })
         .collect();
+    // Stage 2: for each key whose pairs may be scored with their own fit, hold m at the
+    // combined estimate and fit only λ and u on the key's pairs, so that the match class
+    // stays "same person" and u absorbs what non-matches found by this key share
+    // (households share an address and often a phone).
+    let m_final: Vec<Vec<f64>> = attribute.iter().map(|a| a.m.clone()).collect();
+    for (b, key) in keys.iter().enumerate() {
+        let fit_info = &mut blocks[b];
+        if !fit_info.local {
+            continue;
+        }
+        let active: Vec<bool> = key.excluded.iter().map(|e| !e).collect();
+        match conditional_fit(
+            &key.counts,
+            &m_final,
+            &u,
+            fit_info.lambda,
+            &opts(active.clone()),
+        ) {
+            Some((lambda_b, u_b, iterations, trace)) => {
+                let wrong = (0..k_attrs).any(|k| {
+                    active[k] && (m_final[k][0] / u_b[k][0]).log2() < -LOCAL_MIN_TOP_WEIGHT
+                });
+                let keep = |rows: &[Vec<f64>]| -> Vec<Vec<f64>> {
+                    rows.iter()
+                        .zip(&active)
+                        .map(|(r, a)| if *a { r.clone() } else { Vec::new() })
+                        .collect()
+                };
+                fit_info.m = keep(&m_final);
+                fit_info.u = keep(&u_b);
+                fit_info.lambda = lambda_b;
+                fit_info.iterations += iterations;
+                fit_info.loglik_trace.extend(trace);
+                fit_info.local = !wrong && lambda_b > 1e-6 && lambda_b < 1.0 - 1e-6;
+            }
+            None => fit_info.local = false,
+        }
+    }
     warnings.extend(level_warnings(&attribute));
     Ok(Model {
         warnings,
