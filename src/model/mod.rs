@@ -511,7 +511,7 @@ fn conditional_fit(
     u0: &[Vec<f64>],
     lambda0: f64,
     opts: &em::EmOptions,
-) -> Option<(f64, Vec<Vec<f64>>, usize, Vec<f64>)> {
+) -> Option<ConditionalFit> {
     let swapped = em::Params {
         lambda: (1.0 - lambda0).clamp(0.01, 0.99),
         m: u0.to_vec(),
@@ -712,7 +712,12 @@ pub fn fit(
             fit_info.lambda,
             &opts(active.clone()),
         ) {
-            Some((lambda_b, u_b, iterations, trace)) => {
+            Some(ConditionalFit {
+                lambda: lambda_b,
+                u: u_b,
+                iterations,
+                trace,
+            }) => {
                 let wrong = (0..k_attrs).any(|k| {
                     active[k] && (m_final[k][0] / u_b[k][0]).log2() < -LOCAL_MIN_TOP_WEIGHT
                 });
