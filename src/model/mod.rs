@@ -522,12 +522,20 @@ fn conditional_fit(
         ..opts.clone()
     };
     let f = em::fit(counts, &swapped, &opts).ok()?;
-    Some((
-        1.0 - f.params.lambda,
-        f.params.m,
-        f.iterations,
-        f.loglik_trace,
-    ))
+    Some(ConditionalFit {
+        lambda: 1.0 - f.params.lambda,
+        u: f.params.m,
+        iterations: f.iterations,
+        trace: f.loglik_trace,
+    })
+}
+
+/// Result of [`conditional_fit`].
+struct ConditionalFit {
+    lambda: f64,
+    u: Vec<Vec<f64>>,
+    iterations: usize,
+    trace: Vec<f64>,
 }
 
 /// Inputs of [`fit`] for one blocking key.
