@@ -16,6 +16,7 @@
 //! separators ([`parse_nanp_fast`]) and valid `+` international numbers
 //! ([`parse_international_fast`]). Property tests check all three against the crate.
 
+use std::borrow::Cow;
 use std::collections::HashMap;
 use std::sync::{LazyLock, Once, OnceLock};
 
@@ -263,9 +264,9 @@ const IDD_00: &[&str] = &[
 /// default region's trunk prefix to the foreign national number (with default region
 /// US, `+43 1 5450547` loses its leading `1` and becomes invalid), which libphonenumber
 /// does not do.
-fn international_form(raw: &str, region: Option<&str>) -> Option<String> {
+fn international_form<'a>(raw: &'a str, region: Option<&str>) -> Option<Cow<'a, str>> {
     if raw.starts_with('+') {
-        return Some(raw.to_string());
+        return Some(Cow::Borrowed(raw));
     }
     let region = region?;
     let rest = if IDD_00.contains(&region) {
@@ -276,7 +277,7 @@ fn international_form(raw: &str, region: Option<&str>) -> Option<String> {
         return None;
     };
     // "00" followed by another 0 is no calling code.
-    (!rest.trim_start().starts_with(['0', '+'])).then(|| format!("+{rest}"))
+    (!rest.trim_start().starts_with(['0', '+'])).then(|| Cow::Owned(format!("+{rest}")))
 }
 
 fn region_id(region: Option<&str>) -> Option<Id> {
@@ -442,7 +443,7 @@ mod tests {
     fn crate_e164(raw: &str, region: Option<Id>) -> Option<String> {
         let raw = raw.trim();
         let (raw, region) = match region.and_then(|r| international_form(raw, Some(r.as_ref()))) {
-            Some(plus) => (plus, None),
+            Some(plus) => (plus.into_owned(), None),
             None if raw.starts_with('+') => (raw.to_string(), None),
             None => (raw.to_string(), region),
         };
