@@ -20,8 +20,9 @@
 //!
 //! House numbers come first in English-speaking and French-speaking countries
 //! (`12 Main Street`, `12 bis rue de la Paix`) and last elsewhere in Europe and Latin
-//! America (`Hauptstraße 12a`, `Calle Mayor 10`); with an unknown country a leading
-//! number is tried first, then a trailing one. Ordinals (`5th Avenue`) and post-office
+//! America (`Hauptstraße 12a`, `Calle Mayor 10`); outside English-speaking countries
+//! the other position is tried when the usual one has no number (`12 Hauptstraße`), and
+//! with an unknown country a leading number is tried first. Ordinals (`5th Avenue`) and post-office
 //! boxes are never split.
 
 use super::text::{clean_text, clean_text_keep};
@@ -350,9 +351,14 @@ pub fn parse_street(raw: &str, country: Option<&str>) -> StreetParts {
     }
     let unit = take_unit(&mut words);
     let house_number = match st {
-        Style::English | Style::French => take_leading(&mut words, st),
-        Style::German | Style::Spanish | Style::Trailing => take_trailing(&mut words, st),
-        Style::Unknown => take_leading(&mut words, st).or_else(|| take_trailing(&mut words, st)),
+        // "Route 66": a trailing number is no house number in English addresses.
+        Style::English => take_leading(&mut words, st),
+        Style::French | Style::Unknown => {
+            take_leading(&mut words, st).or_else(|| take_trailing(&mut words, st))
+        }
+        Style::German | Style::Spanish | Style::Trailing => {
+            take_trailing(&mut words, st).or_else(|| take_leading(&mut words, st))
+        }
     };
     let mut owned: Vec<String> = words.iter().map(|w| w.to_string()).collect();
     abbreviate(&mut owned, st);
@@ -720,6 +726,9 @@ mod tests {
             "",
         );
         check("Calle Mayor 10", Some("ES"), "c mayor", "10", "");
+        // The other position is the fallback outside English-speaking countries.
+        check("12 Hauptstraße", Some("DE"), "hauptstr", "12", "");
+        check("rue de la Paix 12", Some("FR"), "rue de la paix", "12", "");
         // Unknown country: leading number first, then trailing.
         check("12 Main Street", None, "main st", "12", "");
         check("Hauptstraße 12a", None, "hauptstr", "12a", "");

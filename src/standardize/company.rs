@@ -1,6 +1,6 @@
 //! Company names: legal form split off, connectors unified.
 //!
-//! In: a raw company name (or a raw legal-form value). Out: the name ([`clean_text`]
+//! In: a raw company name (or a raw legal-form value). Out: the name ([`clean_text`](super::clean_text)
 //! rules) without its legal form, and the legal form in a canonical short spelling.
 //! - Dotted initialisms are joined first: `S.A.R.L.`, `S. A.`, `L.L.C.`, `B.V.` →
 //!   `sarl`, `sa`, `llc`, `bv`.

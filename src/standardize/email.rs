@@ -78,9 +78,11 @@ pub fn normalize_email(raw: &str) -> Cleaned {
             repaired = true;
         }
     }
-    if s.len() > 7 && s[..7].eq_ignore_ascii_case("mailto:") {
-        s = &s[7..];
-        repaired = true;
+    if let Some(head) = s.get(..7) {
+        if head.eq_ignore_ascii_case("mailto:") {
+            s = &s[7..];
+            repaired = true;
+        }
     }
     let Some((local, domain)) = s.split_once('@') else {
         return Cleaned::Invalid;

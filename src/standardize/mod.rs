@@ -327,3 +327,345 @@ pub fn standardize(raw: &StdRecord, conv: &Conventions, stats: &mut StdStats) ->
     }
     out
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn record(values: &[(Attr, &str)]) -> StdRecord {
+        let mut r = StdRecord::default();
+        for (a, v) in values {
+            r.set(*a, Some(v.to_string()));
+        }
+        r
+    }
+
+    fn conv(country: &str, date_order: DateOrder, name_order: NameOrder) -> Conventions {
+        Conventions {
+            country: Some(country.to_string()),
+            date_order,
+            name_order,
+        }
+    }
+
+    #[test]
+    fn us_record() {
+        let raw = record(&[
+            (Attr::FullName, "Dr. John Q. Smith Jr."),
+            (Attr::Email, " John.Smith+crm@Example.COM "),
+            (Attr::Phone, "(650) 253-0000 ext. 123"),
+            (Attr::Street, "123 North Main Street Apt 4B"),
+            (Attr::Postcode, "02134-1234"),
+            (Attr::City, "Boston"),
+            (Attr::Region, "Massachusetts"),
+            (Attr::BirthDate, "05/17/1980"),
+            (Attr::Company, "Acme Widgets, Inc."),
+        ]);
+        let mut stats = StdStats::default();
+        let c = conv("US", DateOrder::Mdy, NameOrder::GivenFirst);
+        let out = standardize(&raw, &c, &mut stats);
+        assert_eq!(out.get(Attr::GivenName), Some("john q"));
+        assert_eq!(out.get(Attr::FamilyName), Some("smith"));
+        assert_eq!(out.get(Attr::FullName), Some("smith, john q"));
+        assert_eq!(out.get(Attr::Email), Some("john.smith@example.com"));
+        // CHECK_VALUES.md §5: "(650) 253-0000 ext. 123", US -> +16502530000.
+        assert_eq!(out.get(Attr::Phone), Some("+16502530000"));
+        assert_eq!(out.get(Attr::Street), Some("n main st"));
+        assert_eq!(out.get(Attr::HouseNumber), Some("123"));
+        assert_eq!(out.get(Attr::Unit), Some("apt 4b"));
+        assert_eq!(out.get(Attr::Postcode), Some("02134"));
+        assert_eq!(out.get(Attr::City), Some("boston"));
+        assert_eq!(out.get(Attr::Region), Some("ma"));
+        assert_eq!(out.get(Attr::BirthDate), Some("1980-05-17"));
+        assert_eq!(out.get(Attr::Company), Some("acme widgets"));
+        assert_eq!(out.get(Attr::LegalForm), Some("inc"));
+        assert_eq!(out.get(Attr::Country), None);
+        let fulls = stats.attrs[Attr::FullName.index()];
+        assert_eq!((fulls.present, fulls.repaired), (1, 1));
+        assert_eq!(stats.attrs[Attr::Phone.index()].repaired, 1);
+        assert_eq!(stats.attrs[Attr::BirthDate.index()].parsed, 1);
+        // Derived values are not counted under the attribute they were copied into.
+        assert_eq!(stats.attrs[Attr::GivenName.index()].present, 0);
+    }
+
+    #[test]
+    fn german_record_and_record_country_wins() {
+        let raw = record(&[
+            (Attr::GivenName, "Jörg"),
+            (Attr::FamilyName, "Müller-Lüdenscheidt"),
+            (Attr::Street, "Hauptstraße 12a"),
+            (Attr::Postcode, "1067"),
+            (Attr::City, "Dresden"),
+            (Attr::Country, "Deutschland"),
+            (Attr::Phone, "030 12345678"),
+            (Attr::BirthDate, "17.05.1980"),
+            (Attr::Company, "Müller GmbH & Co. KG"),
+        ]);
+        let mut stats = StdStats::default();
+        // The source says US, but the record's own country is Germany.
+        let c = conv("US", DateOrder::Dmy, NameOrder::GivenFirst);
+        let out = standardize(&raw, &c, &mut stats);
+        assert_eq!(out.get(Attr::Country), Some("DE"));
+        // CHECK_VALUES.md §5: "030 12345678", DE -> +493012345678.
+        assert_eq!(out.get(Attr::Phone), Some("+493012345678"));
+        assert_eq!(out.get(Attr::Postcode), Some("01067"));
+        assert_eq!(out.get(Attr::Street), Some("hauptstr"));
+        assert_eq!(out.get(Attr::HouseNumber), Some("12a"));
+        assert_eq!(out.get(Attr::GivenName), Some("jörg"));
+        assert_eq!(out.get(Attr::FamilyName), Some("müller-lüdenscheidt"));
+        assert_eq!(out.get(Attr::BirthDate), Some("1980-05-17"));
+        assert_eq!(out.get(Attr::Company), Some("müller"));
+        assert_eq!(out.get(Attr::LegalForm), Some("gmbh & co kg"));
+        assert_eq!(out.get(Attr::FullName), None);
+    }
+
+    #[test]
+    fn existing_parts_are_not_overwritten() {
+        let raw = record(&[
+            (Attr::FullName, "Smith, Robert"),
+            (Attr::GivenName, "Bob"),
+            (Attr::Street, "12 Main St"),
+            (Attr::HouseNumber, "12 A"),
+            (Attr::Company, "Foo Ltd"),
+            (Attr::LegalForm, "Limited"),
+        ]);
+        let mut stats = StdStats::default();
+        let out = standardize(
+            &raw,
+            &conv("GB", DateOrder::Dmy, NameOrder::GivenFirst),
+            &mut stats,
+        );
+        assert_eq!(out.get(Attr::GivenName), Some("bob"));
+        assert_eq!(out.get(Attr::FamilyName), Some("smith"));
+        assert_eq!(out.get(Attr::HouseNumber), Some("12a"));
+        assert_eq!(out.get(Attr::Street), Some("main st"));
+        assert_eq!(out.get(Attr::LegalForm), Some("ltd"));
+    }
+
+    #[test]
+    fn invalid_values_become_missing_and_are_counted() {
+        let raw = record(&[
+            (Attr::Email, "not-an-email"),
+            (Attr::Phone, "555-1234"),
+            (Attr::BirthDate, "1980-02-30"),
+            (Attr::Postcode, "ABCDE"),
+            (Attr::Country, "Atlantis"),
+            (Attr::City, "N/A"),
+            (Attr::GivenName, "   "),
+        ]);
+        let mut stats = StdStats::default();
+        let out = standardize(
+            &raw,
+            &conv("US", DateOrder::Ymd, NameOrder::GivenFirst),
+            &mut stats,
+        );
+        for a in [
+            Attr::Email,
+            Attr::Phone,
+            Attr::BirthDate,
+            Attr::Postcode,
+            Attr::Country,
+            Attr::City,
+        ] {
+            assert_eq!(out.get(a), None, "{a}");
+            assert_eq!(stats.attrs[a.index()].invalid, 1, "{a}");
+            assert_eq!(stats.attrs[a.index()].present, 1, "{a}");
+        }
+        // Blank is not present at all.
+        assert_eq!(stats.attrs[Attr::GivenName.index()], AttrStats::default());
+    }
+
+    #[test]
+    fn stats_merge_adds() {
+        let mut a = StdStats::default();
+        let mut b = StdStats::default();
+        let raw = record(&[(Attr::Email, "a@b.co"), (Attr::Phone, "x")]);
+        let c = Conventions::default();
+        standardize(&raw, &c, &mut a);
+        standardize(&raw, &c, &mut b);
+        a.merge(&b);
+        assert_eq!(a.attrs[Attr::Email.index()].parsed, 2);
+        assert_eq!(a.attrs[Attr::Phone.index()].invalid, 2);
+    }
+
+    fn any_record() -> impl Strategy<Value = StdRecord> {
+        proptest::collection::vec(proptest::option::of("\\PC{0,24}"), Attr::COUNT).prop_map(
+            |vals| {
+                let mut r = StdRecord::default();
+                for (a, v) in Attr::ALL.iter().zip(vals) {
+                    r.set(*a, v);
+                }
+                r
+            },
+        )
+    }
+
+    fn realistic_record() -> impl Strategy<Value = StdRecord> {
+        (
+            "(Dr\\.? |Mr |Frau )?[A-Z][a-zäöü]{1,8}( van| de)? [A-Z][a-zäöüß]{1,10}( Jr\\.?)?",
+            "[a-z]{1,6}(\\+[a-z]{1,3})?@[a-z]{1,6}\\.(com|de)",
+            "\\(?[2-9][0-9]{2}\\)? ?[2-9][0-9]{2}-[0-9]{4}",
+            "[1-9][0-9]{0,3} [A-Z][a-z]{2,8} (Street|Avenue|Road|Straße)( Apt [0-9]{1,3})?",
+            "[0-9]{4,5}(-[0-9]{4})?",
+            "(0?[1-9]|1[0-2])/(0?[1-9]|1[0-9]|2[0-8])/(19[0-9]{2}|[0-9]{2})",
+            "[A-Z][a-z]{2,8}( and [A-Z][a-z]{2,6})? (Inc\\.|GmbH|LLC|Ltd)",
+        )
+            .prop_map(|(name, email, phone, street, zip, date, company)| {
+                record(&[
+                    (Attr::FullName, &name),
+                    (Attr::Email, &email),
+                    (Attr::Phone, &phone),
+                    (Attr::Street, &street),
+                    (Attr::Postcode, &zip),
+                    (Attr::BirthDate, &date),
+                    (Attr::Company, &company),
+                    (Attr::City, "Springfield"),
+                ])
+            })
+    }
+
+    proptest! {
+        #[test]
+        fn never_panics_and_counts_add_up(raw in any_record(), country in "[A-Z]{2}|\\PC{0,4}") {
+            for order in [DateOrder::Ymd, DateOrder::Dmy, DateOrder::Mdy] {
+                let c = Conventions { country: Some(country.clone()), date_order: order, name_order: NameOrder::FamilyFirst };
+                let mut stats = StdStats::default();
+                let out = standardize(&raw, &c, &mut stats);
+                for s in stats.attrs {
+                    prop_assert_eq!(s.present, s.parsed + s.repaired + s.invalid);
+                }
+                for v in out.values.iter().flatten() {
+                    prop_assert!(!v.is_empty());
+                }
+            }
+        }
+
+        #[test]
+        fn standardizing_twice_changes_nothing(raw in realistic_record()) {
+            let c = conv("US", DateOrder::Mdy, NameOrder::GivenFirst);
+            let once = standardize(&raw, &c, &mut StdStats::default());
+            // The second pass reads ISO dates, which are year-first in any order.
+            let twice = standardize(&once, &c, &mut StdStats::default());
+            prop_assert_eq!(twice, once);
+        }
+    }
+
+    /// Single-thread throughput on realistic records.
+    /// Run: `cargo test --release --lib standardize_speed -- --ignored --nocapture`.
+    #[test]
+    #[ignore = "timing"]
+    fn standardize_speed() {
+        use crate::util::Rng;
+        let mut rng = Rng::new(42);
+        let given = [
+            "John",
+            "Mary",
+            "Jörg",
+            "José",
+            "Anna",
+            "William",
+            "Zoë",
+            "Hans-Peter",
+        ];
+        let family = [
+            "Smith",
+            "Müller",
+            "van der Berg",
+            "García López",
+            "O'Brien",
+            "Dubois",
+        ];
+        let streets = [
+            "Main Street",
+            "Oak Avenue",
+            "Hauptstraße",
+            "Elm Road",
+            "rue de la Paix",
+        ];
+        let n = 200_000;
+        let records: Vec<(StdRecord, Conventions)> = (0..n)
+            .map(|i| {
+                let us = i % 2 == 0;
+                let g = *rng.pick(&given);
+                let f = *rng.pick(&family);
+                let mut r = record(&[
+                    (Attr::GivenName, g),
+                    (Attr::FamilyName, f),
+                    (Attr::City, if us { "Springfield" } else { "München" }),
+                    (Attr::Company, "Acme Widgets, Inc."),
+                ]);
+                let email = format!("{}.{}{}@example.com", g.to_lowercase(), f.len(), i);
+                let phone = if us {
+                    format!(
+                        "({}) {}-{:04}",
+                        201 + rng.below(700),
+                        200 + rng.below(700),
+                        rng.below(10_000)
+                    )
+                } else {
+                    format!(
+                        "0{} {}",
+                        30 + rng.below(60),
+                        1_000_000 + rng.below(8_000_000)
+                    )
+                };
+                let street = format!("{} {}", 1 + rng.below(999), rng.pick(&streets));
+                let zip = format!("{:05}", rng.below(99_999));
+                let date = format!(
+                    "{}/{}/19{}",
+                    1 + rng.below(12),
+                    1 + rng.below(28),
+                    30 + rng.below(70)
+                );
+                r.set(Attr::Email, Some(email));
+                r.set(Attr::Phone, Some(phone));
+                r.set(Attr::Street, Some(street));
+                r.set(Attr::Postcode, Some(zip));
+                r.set(Attr::BirthDate, Some(date));
+                let c = conv(
+                    if us { "US" } else { "DE" },
+                    DateOrder::Mdy,
+                    NameOrder::GivenFirst,
+                );
+                (r, c)
+            })
+            .collect();
+        // Warm the lazy tables.
+        let mut stats = StdStats::default();
+        standardize(&records[0].0, &records[0].1, &mut stats);
+        let t = std::time::Instant::now();
+        let mut present = 0;
+        for (r, c) in &records {
+            let out = standardize(r, c, &mut stats);
+            present += out.values.iter().flatten().count();
+        }
+        let dt = t.elapsed();
+        println!(
+            "standardize: {n} records, {present} values, {:.0} records/s single thread",
+            n as f64 / dt.as_secs_f64()
+        );
+        // Per attribute: the same records with only that attribute present.
+        for a in Attr::ALL {
+            let s = stats.attrs[a.index()];
+            if s.present == 0 {
+                continue;
+            }
+            let only: Vec<StdRecord> = records
+                .iter()
+                .map(|(r, _)| {
+                    let mut o = StdRecord::default();
+                    o.set(a, r.get(a).map(str::to_string));
+                    o
+                })
+                .collect();
+            let t = std::time::Instant::now();
+            let mut st = StdStats::default();
+            for (o, (_, c)) in only.iter().zip(&records) {
+                std::hint::black_box(standardize(o, c, &mut st));
+            }
+            let per = t.elapsed().as_nanos() as f64 / n as f64;
+            println!("  {a}: {per:.0} ns/value; {s:?}");
+        }
+    }
+}
