@@ -4,7 +4,7 @@
 //! into [`StdRecord`]s; [`RecordTable`] stores them column-wise with every distinct
 //! value interned once, so that later stages compare small integer ids.
 
-use std::collections::HashMap;
+use rustc_hash::FxHashMap as HashMap;
 use std::fmt;
 
 /// The standard attributes a source column can be mapped to.
@@ -242,7 +242,7 @@ impl RecordTableBuilder {
                 id: Vec::new(),
                 columns: (0..Attr::COUNT).map(|_| Column::new()).collect(),
             },
-            lookup: (0..Attr::COUNT).map(|_| HashMap::new()).collect(),
+            lookup: (0..Attr::COUNT).map(|_| HashMap::default()).collect(),
         }
     }
 
