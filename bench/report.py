@@ -43,6 +43,12 @@ def parse_time(path):
     secs = 0.0
     for part in m.group(1).split(":"):
         secs = secs * 60 + float(part)
+    pct = re.search(r"Percent of CPU this job got: (\d+)%", text)
+    try:
+        with open(path + ".load", encoding="utf-8") as f:
+            load = f.read().split()[0]
+    except (OSError, IndexError):
+        load = "?"
     user = re.search(r"User time \(seconds\): ([0-9.]+)", text)
     system = re.search(r"System time \(seconds\): ([0-9.]+)", text)
     return {
@@ -50,6 +56,8 @@ def parse_time(path):
         "rss_kib": int(r.group(1)),
         "cpu": (float(user.group(1)) if user else 0.0)
         + (float(system.group(1)) if system else 0.0),
+        "cpu_pct": int(pct.group(1)) if pct else None,
+        "load": load,
     }
 
 
@@ -102,6 +110,18 @@ def duckdb_info(path):
     m = re.search(r"^duckdb (\S+), threads", text, re.M)
     info["version"] = m.group(1).rstrip(",") if m else "?"
     return info
+
+
+def largest_cluster(path):
+    """Records in the largest cluster of a crosswalk CSV."""
+    import collections
+    import csv
+    try:
+        with open(path, newline="", encoding="utf-8") as f:
+            sizes = collections.Counter(row["customer_key"] for row in csv.DictReader(f))
+    except (OSError, KeyError) as e:
+        fail(f"cannot read the crosswalk {path}: {e}")
+    return max(sizes.values(), default=0)
 
 
 def fmt_time(s):
@@ -162,6 +182,8 @@ def main():
             "d_eval": parse_eval(os.path.join(run, "duckdb.eval.json")),
             "k_info": kinlink_info(os.path.join(run, "kinlink.log")),
             "d_info": duckdb_info(os.path.join(run, "duckdb.log.err")),
+            "k_big": largest_cluster(os.path.join(run, "kinlink", "crosswalk.csv")),
+            "d_big": largest_cluster(os.path.join(run, "duckdb", "crosswalk.csv")),
         })
 
     commit = command_out("git", "rev-parse", "--short", "HEAD")
@@ -190,36 +212,46 @@ def main():
     md.append(
         "| customers | records | kinlink time | kinlink peak RSS | kinlink pairwise F1 "
         "| kinlink B-cubed F1 | DuckDB time | DuckDB peak RSS | DuckDB pairwise F1 "
-        "| DuckDB B-cubed F1 | time DuckDB / kinlink |"
+        "| DuckDB B-cubed F1 | time DuckDB / kinlink | CPU time DuckDB / kinlink |"
     )
-    md.append("|" + "---:|" * 11)
+    md.append("|" + "---:|" * 12)
     for r in rows:
         k, d = r["k_time"], r["d_time"]
         ratio = d["wall"] / k["wall"] if k["wall"] > 0 else float("inf")
+        cpu_ratio = d["cpu"] / k["cpu"] if k["cpu"] > 0 else float("inf")
         md.append(
             f"| {r['n']:,} | {r['k_eval']['records']:,} | {fmt_time(k['wall'])} "
             f"| {fmt_rss(k['rss_kib'])} | {r['k_eval']['pw']['f1']:.4f} "
             f"| {r['k_eval']['b3']['f1']:.4f} | {fmt_time(d['wall'])} "
             f"| {fmt_rss(d['rss_kib'])} | {r['d_eval']['pw']['f1']:.4f} "
-            f"| {r['d_eval']['b3']['f1']:.4f} | {ratio:.2f}x |"
+            f"| {r['d_eval']['b3']['f1']:.4f} | {ratio:.2f}x | {cpu_ratio:.2f}x |"
         )
     md.append("")
 
+    md.append(
+        "CPU time is user + system time of the process. The machine is shared: when the "
+        "load average before a step (below) is above the core count or the CPU % of a "
+        "multi-threaded step is well below 100 % per thread, other work slowed it down and "
+        "the CPU-time ratio is the fairer comparison.\n"
+    )
     md.append("## Precision and recall\n")
     md.append(
         "| customers | tool | pairwise P | pairwise R | pairwise F1 | B-cubed P | B-cubed R "
-        "| B-cubed F1 | customers found (true) | linked pairs | CPU time |"
+        "| B-cubed F1 | customers found (true) | largest cluster | linked pairs | CPU time "
+        "| CPU % | load before |"
     )
-    md.append("|---:|---|" + "---:|" * 9)
+    md.append("|---:|---|" + "---:|" * 12)
     for r in rows:
-        for tool, e, t in (("kinlink", r["k_eval"], r["k_time"]),
-                           ("DuckDB", r["d_eval"], r["d_time"])):
+        for tool, e, t, big in (("kinlink", r["k_eval"], r["k_time"], r["k_big"]),
+                                ("DuckDB", r["d_eval"], r["d_time"], r["d_big"])):
             pw, b3 = e["pw"], e["b3"]
             md.append(
                 f"| {r['n']:,} | {tool} | {pw['precision']:.4f} | {pw['recall']:.4f} "
                 f"| {pw['f1']:.4f} | {b3['precision']:.4f} | {b3['recall']:.4f} "
                 f"| {b3['f1']:.4f} | {e['predicted_entities']:,} ({e['true_entities']:,}) "
-                f"| {pw['predicted_pairs']:,} | {fmt_time(t['cpu'])} |"
+                f"| {big:,} "
+                f"| {pw['predicted_pairs']:,} | {fmt_time(t['cpu'])} "
+                f"| {t['cpu_pct'] if t['cpu_pct'] is not None else '?'}% | {t['load']} |"
             )
     md.append("")
 

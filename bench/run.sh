@@ -83,6 +83,8 @@ step() {
     if [[ "$timef" == "-" ]]; then
         "$@" >"$out" 2>"$out.err" || rc=$?
     else
+        # Other work on the machine slows a measured step: note the load before it.
+        cut -d' ' -f1-3 /proc/loadavg >"$timef.load" 2>/dev/null || true
         /usr/bin/time -v -o "$timef" "$@" >"$out" 2>"$out.err" || rc=$?
     fi
     if [[ $rc -ne 0 ]]; then
