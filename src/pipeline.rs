@@ -14,7 +14,7 @@ use rayon::prelude::*;
 
 use crate::block::{Blocking, Task};
 use crate::classify::{Classifier, Decision, Estimate, WeightHistogram};
-use crate::cluster::{cluster, Edge, Guards};
+use crate::cluster::{cluster_with, Edge, Guards};
 use crate::compare::{Comparison, Gamma};
 use crate::error::{Error, Result};
 use crate::model::{self, em::PatternCounts, KeyCounts, Model};
@@ -282,7 +282,20 @@ fn cluster_and_write(
     staging: &mut Staging,
 ) -> Result<crate::cluster::Clusters> {
     let guards = guards_of(spec, table);
-    let clusters = cluster(table.len(), edges, &table.source, &guards);
+    // A unique attribute that is also compared conflicts only beyond its last agreement
+    // level, so a birth date with a swapped day and month does not block a merge.
+    let comparison = Comparison::new(&spec.compares, table);
+    let comparators: Vec<Option<&crate::compare::Comparator>> = spec
+        .cluster
+        .unique
+        .iter()
+        .map(|a| comparison.comparators.iter().find(|c| c.attr == *a))
+        .collect();
+    let compatible = |k: usize, x: u32, y: u32| match comparators[k] {
+        Some(c) => c.level(x, y) != c.disagree(),
+        None => x == y,
+    };
+    let clusters = cluster_with(table.len(), edges, &table.source, &guards, &compatible);
     let keys = crate::keys::assign(table, &clusters.label);
     let mut w = staging.csv("crosswalk.csv")?;
     w.row(&["source", "source_id", "customer_key"])?;

@@ -16,7 +16,8 @@ pub struct Guards {
     /// Per source index, true when the source holds at most one record per customer.
     pub one_per_source: Vec<bool>,
     /// Attributes unique per person (e.g. a national id): per attribute, the value id of
-    /// each record (0 = missing). Two clusters with different values are never merged.
+    /// each record (0 = missing). Two clusters with conflicting values are never merged;
+    /// a cluster keeps the value of its first record that has one.
     pub distinct: Vec<Vec<u32>>,
 }
 
@@ -98,7 +99,20 @@ impl UnionFind {
 }
 
 /// Cluster `n` records from matched `edges`; `source_of` gives each record's source index.
+/// Values of a unique attribute conflict when they differ.
 pub fn cluster(n: usize, edges: &[Edge], source_of: &[u16], guards: &Guards) -> Clusters {
+    cluster_with(n, edges, source_of, guards, &|_, x, y| x == y)
+}
+
+/// [`cluster`] where `compatible(k, x, y)` says whether values `x` and `y` of unique
+/// attribute `k` may belong to one person (e.g. birth dates one typo apart).
+pub fn cluster_with(
+    n: usize,
+    edges: &[Edge],
+    source_of: &[u16],
+    guards: &Guards,
+    compatible: &dyn Fn(usize, u32, u32) -> bool,
+) -> Clusters {
     let mut order: Vec<usize> = (0..edges.len()).collect();
     order.sort_by(|&x, &y| {
         let (e, f) = (&edges[x], &edges[y]);
@@ -146,9 +160,9 @@ pub fn cluster(n: usize, edges: &[Edge], source_of: &[u16], guards: &Guards) -> 
             refused.push((e, Refusal::SameSource));
             continue;
         }
-        if let Some(k) = uf.values.iter().position(|v| {
+        if let Some(k) = uf.values.iter().enumerate().position(|(k, v)| {
             let (x, y) = (v[ra as usize], v[rb as usize]);
-            x != 0 && y != 0 && x != y
+            x != 0 && y != 0 && x != y && !compatible(k, x, y)
         }) {
             refused.push((e, Refusal::Conflict(k)));
             continue;
@@ -230,6 +244,10 @@ mod tests {
         let c = cluster(4, &edges, &[0; 4], &g);
         assert_eq!(c.label, vec![0, 0, 0, 3]);
         assert_eq!(c.refused, vec![(edges[2], Refusal::Conflict(0))]);
+        // Values 1 and 2 declared compatible (e.g. one typo apart): no refusal.
+        let c = cluster_with(4, &edges, &[0; 4], &g, &|_, x, y| x + y == 3);
+        assert_eq!(c.label, vec![0, 0, 0, 0]);
+        assert!(c.refused.is_empty());
     }
 
     proptest! {

@@ -12,19 +12,18 @@
 //!
 //! # How it is fast
 //!
-//! A common prefix and suffix cannot change either distance and is cut first. When one side
-//! then has at most 64 characters it becomes the pattern, described by one `u64` of
-//! positions per character, and a column of the dynamic-programming matrix is kept as two
-//! words of vertical +1/−1 deltas: Myers (1999, "A fast bit-vector algorithm for approximate
-//! string matching based on dynamic programming", JACM 46:395–415) in the formulation of
-//! Hyyrö (2001, "Explaining and extending the bit-parallel approximate string matching
-//! algorithm of Myers"), and Hyyrö (2003, "A bit-vector algorithm for computing
-//! Levenshtein and Damerau edit distances", Nordic J. Computing 10:29–39) for the
-//! transposition term. Each character of the other string then costs a dozen word
-//! operations. All-ASCII pairs work on bytes. When both sides exceed 64 characters a
-//! two-row dynamic programme is used.
+//! A common prefix and suffix cannot change either distance and is cut first. The longer
+//! side, if it has at most 64 characters, else the shorter one, becomes the pattern,
+//! described by one `u64` of positions per character, and a column of the
+//! dynamic-programming matrix is kept as two words of vertical +1/−1 deltas: Myers (1999,
+//! "A fast bit-vector algorithm for approximate string matching based on dynamic
+//! programming", JACM 46:395–415) in Hyyrö's formulation for global distance, and Hyyrö
+//! (2003, "A bit-vector algorithm for computing Levenshtein and Damerau edit distances",
+//! Nordic J. Computing 10:29–39) for the transposition term (references from memory). Each
+//! character of the other string then costs about a dozen word operations. All-ASCII pairs
+//! work on bytes. When both sides exceed 64 characters a two-row dynamic programme is used.
 
-use super::masks::{AsciiMasks, CharMasks, MAX_BITS};
+use super::masks::{is_ascii, with_ascii_masks, CharMasks, MAX_BITS};
 
 /// Levenshtein distance between `a` and `b` (in characters).
 ///
@@ -33,8 +32,8 @@ use super::masks::{AsciiMasks, CharMasks, MAX_BITS};
 /// assert_eq!(levenshtein("kitten", "sitting"), 3);
 /// ```
 pub fn levenshtein(a: &str, b: &str) -> usize {
-    // With no bound the kernel always returns a value; the fallback is never taken.
-    levenshtein_bounded(a, b, usize::MAX).unwrap_or(usize::MAX)
+    // Without a bound the kernels always return a value; the fallback is never taken.
+    drive(&Levenshtein::<false>(usize::MAX), a, b).unwrap_or(usize::MAX)
 }
 
 /// Levenshtein distance between `a` and `b` if it is at most `k`, else `None`.
@@ -48,7 +47,7 @@ pub fn levenshtein(a: &str, b: &str) -> usize {
 /// assert_eq!(levenshtein_within("kitten", "sitting", 2), None);
 /// ```
 pub fn levenshtein_within(a: &str, b: &str, k: usize) -> Option<usize> {
-    levenshtein_bounded(a, b, k)
+    drive(&Levenshtein::<true>(k), a, b)
 }
 
 /// Optimal string alignment distance between `a` and `b` (in characters).
@@ -59,85 +58,120 @@ pub fn levenshtein_within(a: &str, b: &str, k: usize) -> Option<usize> {
 /// assert_eq!(osa_distance("CA", "ABC"), 3);
 /// ```
 pub fn osa_distance(a: &str, b: &str) -> usize {
-    if a.is_ascii() && b.is_ascii() {
-        let (a, b) = strip_affix(a.as_bytes(), b.as_bytes());
-        let (p, t) = order(a, b, a.len(), b.len());
-        if p.is_empty() {
-            return t.len();
-        }
-        if p.len() <= MAX_BITS {
-            let masks = AsciiMasks::new(p);
-            return osa_bits(p.len(), |c| masks.get(c), t.iter().copied());
-        }
-        return osa_dp(p, t);
-    }
-    let (a, b) = strip_affix_str(a, b);
-    let (la, lb) = (a.chars().count(), b.chars().count());
-    let (p, t) = order(a, b, la, lb);
-    let (p_len, t_len) = (la.min(lb), la.max(lb));
-    if p_len == 0 {
-        return t_len;
-    }
-    if p_len <= MAX_BITS {
-        let mut buf = ['\0'; MAX_BITS];
-        for (slot, c) in buf.iter_mut().zip(p.chars()) {
-            *slot = c;
-        }
-        let masks = CharMasks::new(&buf[..p_len]);
-        return osa_bits(p_len, |c| masks.get(c), t.chars());
-    }
-    let p: Vec<char> = p.chars().collect();
-    let t: Vec<char> = t.chars().collect();
-    osa_dp(&p, &t)
+    // OSA has no bound, so the kernels always return a value.
+    drive(&Osa, a, b).unwrap_or(usize::MAX)
 }
 
-/// The pattern (shorter) side first. Both distances are symmetric, so the order is free.
-#[inline]
-fn order<'a, S: ?Sized>(a: &'a S, b: &'a S, la: usize, lb: usize) -> (&'a S, &'a S) {
-    if la <= lb {
-        (a, b)
-    } else {
-        (b, a)
+/// One edit distance, as a bit-parallel kernel and a plain fallback.
+trait Distance {
+    /// Results above this are reported as `None`.
+    fn max(&self) -> usize;
+    /// Bit-parallel kernel: pattern of `p_len` symbols (1..=64) described by `masks`,
+    /// `text` of `text_len` symbols.
+    fn bits<T, M, I>(&self, p_len: usize, masks: M, text: I, text_len: usize) -> Option<usize>
+    where
+        M: Fn(T) -> u64,
+        I: Iterator<Item = T>;
+    /// Dynamic programme for when neither side fits in a word.
+    fn dp<T: PartialEq>(&self, a: &[T], b: &[T]) -> Option<usize>;
+}
+
+/// Levenshtein distance, optionally giving up above the bound.
+struct Levenshtein<const BOUNDED: bool>(usize);
+
+impl<const BOUNDED: bool> Distance for Levenshtein<BOUNDED> {
+    fn max(&self) -> usize {
+        self.0
+    }
+    #[inline(always)]
+    fn bits<T, M, I>(&self, p_len: usize, masks: M, text: I, text_len: usize) -> Option<usize>
+    where
+        M: Fn(T) -> u64,
+        I: Iterator<Item = T>,
+    {
+        myers::<BOUNDED, T, M, I>(p_len, masks, text, text_len, self.0)
+    }
+    fn dp<T: PartialEq>(&self, a: &[T], b: &[T]) -> Option<usize> {
+        levenshtein_dp(a, b, self.0)
     }
 }
 
-fn levenshtein_bounded(a: &str, b: &str, max: usize) -> Option<usize> {
-    if a.is_ascii() && b.is_ascii() {
+/// Optimal string alignment distance.
+struct Osa;
+
+impl Distance for Osa {
+    fn max(&self) -> usize {
+        usize::MAX
+    }
+    #[inline(always)]
+    fn bits<T, M, I>(&self, p_len: usize, masks: M, text: I, _text_len: usize) -> Option<usize>
+    where
+        M: Fn(T) -> u64,
+        I: Iterator<Item = T>,
+    {
+        Some(osa_bits(p_len, masks, text))
+    }
+    fn dp<T: PartialEq>(&self, a: &[T], b: &[T]) -> Option<usize> {
+        Some(osa_dp(a, b))
+    }
+}
+
+/// Shared set-up of both distances: cut the common affix, check the length difference, and
+/// pick the pattern. Both distances are symmetric, so either side may be the pattern; the
+/// longer one is taken when it fits in a word, which leaves the shorter one to loop over.
+#[inline(always)]
+fn drive<D: Distance>(dist: &D, a: &str, b: &str) -> Option<usize> {
+    if is_ascii(a) && is_ascii(b) {
         let (a, b) = strip_affix(a.as_bytes(), b.as_bytes());
-        let (p, t) = order(a, b, a.len(), b.len());
-        if t.len() - p.len() > max {
+        let (short, long) = if a.len() <= b.len() { (a, b) } else { (b, a) };
+        if long.len() - short.len() > dist.max() {
             return None;
         }
-        if p.is_empty() {
-            return Some(t.len());
+        if short.is_empty() {
+            return Some(long.len());
         }
+        let (p, t) = if long.len() <= MAX_BITS {
+            (long, short)
+        } else {
+            (short, long)
+        };
         if p.len() <= MAX_BITS {
-            let masks = AsciiMasks::new(p);
-            return myers(p.len(), |c| masks.get(c), t.iter().copied(), t.len(), max);
+            return with_ascii_masks(p, |masks| {
+                let lookup = |c: u8| masks[usize::from(c & 0x7f)];
+                dist.bits(p.len(), lookup, t.iter().copied(), t.len())
+            });
         }
-        return levenshtein_dp(p, t, max);
+        return dist.dp(short, long);
     }
     let (a, b) = strip_affix_str(a, b);
     let (la, lb) = (a.chars().count(), b.chars().count());
-    let (p, t) = order(a, b, la, lb);
-    let (p_len, t_len) = (la.min(lb), la.max(lb));
-    if t_len - p_len > max {
+    let (short, s_len, long, l_len) = if la <= lb {
+        (a, la, b, lb)
+    } else {
+        (b, lb, a, la)
+    };
+    if l_len - s_len > dist.max() {
         return None;
     }
-    if p_len == 0 {
-        return Some(t_len);
+    if s_len == 0 {
+        return Some(l_len);
     }
+    let (p, p_len, t, t_len) = if l_len <= MAX_BITS {
+        (long, l_len, short, s_len)
+    } else {
+        (short, s_len, long, l_len)
+    };
     if p_len <= MAX_BITS {
         let mut buf = ['\0'; MAX_BITS];
         for (slot, c) in buf.iter_mut().zip(p.chars()) {
             *slot = c;
         }
         let masks = CharMasks::new(&buf[..p_len]);
-        return myers(p_len, |c| masks.get(c), t.chars(), t_len, max);
+        return dist.bits(p_len, |c| masks.get(c), t.chars(), t_len);
     }
-    let p: Vec<char> = p.chars().collect();
-    let t: Vec<char> = t.chars().collect();
-    levenshtein_dp(&p, &t, max)
+    let short: Vec<char> = short.chars().collect();
+    let long: Vec<char> = long.chars().collect();
+    dist.dp(&short, &long)
 }
 
 /// Cut the common prefix and suffix of two slices.
@@ -176,9 +210,15 @@ fn strip_affix_str<'a>(a: &'a str, b: &'a str) -> (&'a str, &'a str) {
 
 /// Myers/Hyyrö bit-parallel Levenshtein distance. The pattern has `p_len` symbols
 /// (1..=64) described by `masks`; `text` has `text_len` symbols. `None` when the distance
-/// exceeds `max`.
+/// exceeds `max`; with `BOUNDED` it gives up as soon as that is certain.
 #[inline(always)]
-fn myers<T, M, I>(p_len: usize, masks: M, text: I, text_len: usize, max: usize) -> Option<usize>
+fn myers<const BOUNDED: bool, T, M, I>(
+    p_len: usize,
+    masks: M,
+    text: I,
+    text_len: usize,
+    max: usize,
+) -> Option<usize>
 where
     M: Fn(T) -> u64,
     I: Iterator<Item = T>,
@@ -195,17 +235,15 @@ where
         let d0 = ((x & vp).wrapping_add(vp) ^ vp) | x;
         let hp = vn | !(d0 | vp);
         let hn = d0 & vp;
-        if hp & last != 0 {
-            score += 1;
-        } else if hn & last != 0 {
-            score -= 1;
-        }
+        // Branch-free; adding first keeps `score` from dipping below zero.
+        score += usize::from(hp & last != 0);
+        score -= usize::from(hn & last != 0);
         let hp = (hp << 1) | 1;
         let hn = hn << 1;
         vp = hn | !(d0 | hp);
         vn = hp & d0;
         // The bottom row changes by at most 1 per remaining column.
-        if score > max.saturating_add(text_len - j - 1) {
+        if BOUNDED && score > max.saturating_add(text_len - j - 1) {
             return None;
         }
     }
@@ -233,11 +271,9 @@ where
         d0 = ((pm & vp).wrapping_add(vp) ^ vp) | pm | vn | tr;
         let hp = vn | !(d0 | vp);
         let hn = d0 & vp;
-        if hp & last != 0 {
-            score += 1;
-        } else if hn & last != 0 {
-            score -= 1;
-        }
+        // Branch-free; adding first keeps `score` from dipping below zero.
+        score += usize::from(hp & last != 0);
+        score -= usize::from(hn & last != 0);
         let hp = (hp << 1) | 1;
         let hn = hn << 1;
         vp = hn | !(d0 | hp);

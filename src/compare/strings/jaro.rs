@@ -30,15 +30,17 @@
 //! # How it is fast
 //!
 //! The greedy matching is symmetric (the same positions are matched whichever string drives
-//! it), so the shorter string becomes the *pattern*. When it has at most 64 characters, one
+//! it; the property tests compare both argument orders with strsim bit for bit), so the
+//! shorter string becomes the *pattern*. When it has at most 64 characters, one
 //! `u64` per distinct character records where it occurs; the window is a sliding bit mask and
 //! "first unmatched equal character in the window" is the lowest set bit of
 //! `mask[c] & window & !used`. All-ASCII pairs work on bytes with a 128-entry table; other
 //! pairs decode `char`s once. When both strings are longer than 64 characters a plain loop
-//! over the window is used. [`JaroMatcher`] keeps the pattern masks of one query string for
-//! one-against-many comparison.
+//! over the window is used. The three ratios of the formula come from a table filled at
+//! compile time (same bits as dividing). [`JaroMatcher`] keeps the pattern masks of one query
+//! string for one-against-many comparison.
 
-use super::masks::{low_bits, AsciiMasks, CharMasks, MAX_BITS};
+use super::masks::{is_ascii, low_bits, with_ascii_masks, CharMasks, MAX_BITS};
 
 /// Winkler's prefix scale `p` (Winkler 1990; the default of strsim, jellyfish, rapidfuzz).
 pub const WINKLER_PREFIX_SCALE: f64 = 0.1;
@@ -54,12 +56,18 @@ pub const WINKLER_BOOST_THRESHOLD: f64 = 0.7;
 /// assert!((jaro("MARTHA", "MARHTA") - 0.944444).abs() < 1e-6);
 /// ```
 pub fn jaro(a: &str, b: &str) -> f64 {
-    if a.is_ascii() && b.is_ascii() {
+    if is_ascii(a) && is_ascii(b) {
         let (a, b) = (a.as_bytes(), b.as_bytes());
         let (p, t) = if a.len() <= b.len() { (a, b) } else { (b, a) };
         if p.len() <= MAX_BITS {
-            let masks = AsciiMasks::new(p);
-            return jaro_bits(p, |c| masks.get(c), t.iter().copied(), t.len());
+            return with_ascii_masks(p, |masks| {
+                jaro_bits(
+                    p,
+                    |c| masks[usize::from(c & 0x7f)],
+                    t.iter().copied(),
+                    t.len(),
+                )
+            });
         }
         return jaro_general(a, b);
     }
@@ -117,6 +125,33 @@ fn common_prefix(a: &str, b: &str) -> usize {
         .count()
 }
 
+/// `RATIO[n][d] = n / d` for `n, d <= 64`, evaluated at compile time. Basic IEEE-754
+/// arithmetic is correctly rounded both at compile time and at run time, so a lookup gives
+/// the very bits a division would, without the division's latency (three per pair).
+static RATIO: [[f64; MAX_BITS + 1]; MAX_BITS + 1] = {
+    let mut table = [[0.0; MAX_BITS + 1]; MAX_BITS + 1];
+    let mut n = 0;
+    while n <= MAX_BITS {
+        let mut d = 1;
+        while d <= MAX_BITS {
+            table[n][d] = n as f64 / d as f64;
+            d += 1;
+        }
+        n += 1;
+    }
+    table
+};
+
+/// `n / d` as `f64`, from [`RATIO`] when both are at most 64 (`d > 0`).
+#[inline(always)]
+fn ratio(n: usize, d: usize) -> f64 {
+    if n <= MAX_BITS && d <= MAX_BITS {
+        RATIO[n][d]
+    } else {
+        n as f64 / d as f64
+    }
+}
+
 /// The Jaro formula from match and half-transposition counts, as strsim evaluates it.
 #[inline]
 fn formula(m: usize, half_transpositions: usize, la: usize, lb: usize) -> f64 {
@@ -124,7 +159,7 @@ fn formula(m: usize, half_transpositions: usize, la: usize, lb: usize) -> f64 {
         return 0.0;
     }
     let t = half_transpositions / 2;
-    ((m as f64 / la as f64) + (m as f64 / lb as f64) + ((m - t) as f64 / m as f64)) / 3.0
+    (ratio(m, la) + ratio(m, lb) + ratio(m - t, m)) / 3.0
 }
 
 /// Bit-parallel Jaro: `pattern` (at most 64 symbols) is described by `masks`; `text`
@@ -153,24 +188,19 @@ where
     let mut m = 0usize;
     // From text position p_len + d on, the window lies above the pattern.
     let stop = p_len + d;
-    for (i, c) in text.enumerate() {
-        if i >= stop {
+    for (i, c) in text.take(stop).enumerate() {
+        let candidates = masks(c) & window & !used;
+        // Branch-free: whether a symbol matches is unpredictable for real names.
+        let lowest = candidates & candidates.wrapping_neg();
+        used |= lowest;
+        matched[m & (MAX_BITS - 1)] = c;
+        m += usize::from(lowest != 0);
+        if m == p_len {
+            // Every pattern position is taken (and `matched` is full).
             break;
         }
-        let candidates = masks(c) & window & !used;
-        if candidates != 0 {
-            used |= candidates & candidates.wrapping_neg();
-            matched[m & (MAX_BITS - 1)] = c;
-            m += 1;
-            if m == p_len {
-                break;
-            }
-        }
-        window = if i < d {
-            (window << 1) | 1
-        } else {
-            window << 1
-        };
+        // The window's lower edge starts moving once i reaches d.
+        window = (window << 1) | u64::from(i < d);
     }
     let mut half = 0usize;
     let mut rest = used;
@@ -234,6 +264,8 @@ fn jaro_general<T: Copy + PartialEq>(a: &[T], b: &[T]) -> f64 {
 pub struct JaroMatcher {
     query: String,
     chars: Vec<char>,
+    /// The query is all ASCII, so all-ASCII candidates can be compared as bytes.
+    ascii: bool,
     /// Pattern masks of the query; `None` when it is longer than 64 characters.
     masks: Option<CharMasks>,
 }
@@ -254,6 +286,7 @@ impl JaroMatcher {
         JaroMatcher {
             query: query.to_owned(),
             chars,
+            ascii: is_ascii(query),
             masks,
         }
     }
@@ -268,7 +301,7 @@ impl JaroMatcher {
         let Some(masks) = &self.masks else {
             return jaro(&self.query, text);
         };
-        if text.is_ascii() && self.query.is_ascii() {
+        if self.ascii && is_ascii(text) {
             let t = text.as_bytes();
             jaro_bits(
                 self.query.as_bytes(),
@@ -573,6 +606,9 @@ mod tests {
             prop_assert!((j - sj).abs() <= 1e-12, "jaro {a:?} {b:?}: {j} vs strsim {sj}");
             let (jw, sjw) = (jaro_winkler(&a, &b), strsim::jaro_winkler(&a, &b));
             prop_assert!((jw - sjw).abs() <= 1e-12, "jw {a:?} {b:?}: {jw} vs strsim {sjw}");
+            // Stronger than the tolerance: the module docs promise the very same bits.
+            prop_assert_eq!(j.to_bits(), sj.to_bits());
+            prop_assert_eq!(jw.to_bits(), sjw.to_bits());
         }
 
         #[test]
@@ -600,6 +636,7 @@ mod tests {
             for b in &bs {
                 prop_assert!((matcher.jaro(b) - jaro(&a, b)).abs() <= 1e-12);
                 prop_assert!((matcher.jaro_winkler(b) - jaro_winkler(&a, b)).abs() <= 1e-12);
+                prop_assert_eq!(matcher.jaro_winkler(b).to_bits(), jaro_winkler(&a, b).to_bits());
             }
         }
     }

@@ -1,0 +1,354 @@
+//! Personal names: titles, generational suffixes, particles, full-name splitting.
+//!
+//! In: raw given, family or full name strings, the source's [`NameOrder`] and the
+//! record's country. Out: cleaned names ([`clean_text`] rules, diacritics kept) without
+//! titles and suffixes; a full name split into given and family name.
+//!
+//! Rules (common practice, no source unless stated):
+//! - Titles are removed from the start: `Mr Mrs Ms Miss Mx Dr Prof Herr Frau Mme Mlle
+//!   Madame Mademoiselle Monsieur Sr Sra Srta Dña Sir Dame Rev`. Two one-letter
+//!   abbreviations are ambiguous with initials and are titles only with a period and
+//!   in a country that uses them: `M.` (Monsieur) in French-speaking countries, `D.`
+//!   (Don) in Spanish-speaking countries. Elsewhere `M.`/`D.` stay as initials.
+//! - Generational suffixes and post-nominals are removed from the end of a name part:
+//!   `Jr Jnr Junior Sr Snr Senior II III IV PhD Esq`.
+//! - `Sr` is both the Spanish title *Señor* and the English suffix *Senior*. Position
+//!   decides: first word of a part (with more words after it) = title, last word =
+//!   suffix. Both are removed, so the value is the same either way; a name part that is
+//!   only `Sr` is kept as it is (nothing is ever removed from a one-word part).
+//! - Particles `van von de da del della di du le la der den ter ten dos das zu vom zum
+//!   zur st saint y` stay with the family name (`Ludwig van Beethoven` → family
+//!   `van beethoven`), hyphens stay inside family names (`müller-lüdenscheidt`).
+//! - A full name with a comma is `Family, Given` (further comma parts that are only
+//!   suffixes are dropped, any others join the given name). Without a comma the
+//!   source's [`NameOrder`] decides: given-first takes the last word plus the particles
+//!   before it as family name (but never the first word), family-first takes the
+//!   leading particles plus the next word. A one-word full name is a family name.
+//! - The standardized full name is written `family, given` (or the single part), so
+//!   both input forms give the same value and standardizing again changes nothing.
+
+use super::text::clean_text;
+use super::NameOrder;
+
+/// A standardized full name.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct SplitName {
+    /// Given name(s), if any.
+    pub given: Option<String>,
+    /// Family name with particles, if any.
+    pub family: Option<String>,
+    /// True when titles or suffixes were removed.
+    pub stripped: bool,
+}
+
+impl SplitName {
+    /// The standardized full-name string: `family, given`, or the one part present.
+    pub fn full(&self) -> Option<String> {
+        match (&self.given, &self.family) {
+            (Some(g), Some(f)) => Some(format!("{f}, {g}")),
+            (Some(g), None) => Some(g.clone()),
+            (None, Some(f)) => Some(f.clone()),
+            (None, None) => None,
+        }
+    }
+}
+
+const TITLES: &[&str] = &[
+    "mr",
+    "mrs",
+    "ms",
+    "miss",
+    "mx",
+    "dr",
+    "prof",
+    "herr",
+    "frau",
+    "mme",
+    "mlle",
+    "madame",
+    "mademoiselle",
+    "monsieur",
+    "sr",
+    "sra",
+    "srta",
+    "dña",
+    "sir",
+    "dame",
+    "rev",
+];
+
+const SUFFIXES: &[&str] = &[
+    "jr", "jnr", "junior", "sr", "snr", "senior", "ii", "iii", "iv", "phd", "esq",
+];
+
+const PARTICLES: &[&str] = &[
+    "van", "von", "de", "da", "del", "della", "di", "du", "le", "la", "der", "den", "ter", "ten",
+    "dos", "das", "zu", "vom", "zum", "zur", "st", "saint", "y",
+];
+
+const FRENCH_SPEAKING: &[&str] = &["FR", "BE", "CH", "LU", "MC", "CA"];
+const SPANISH_SPEAKING: &[&str] = &[
+    "ES", "MX", "AR", "CO", "CL", "PE", "VE", "EC", "GT", "CU", "BO", "DO", "HN", "PY", "SV", "NI",
+    "CR", "PA", "UY", "PR",
+];
+
+/// True for a particle kept with the family name.
+pub fn is_particle(word: &str) -> bool {
+    PARTICLES.contains(&word)
+}
+
+/// One raw word: its case-folded text without trailing periods, and whether it had one.
+struct RawWord {
+    key: String,
+    dotted: bool,
+    text: String,
+}
+
+/// Split one comma part into raw words: on whitespace and after periods
+/// (`J.R.R.` -> `J.` `R.` `R.`).
+fn raw_words(part: &str) -> Vec<RawWord> {
+    let mut out = Vec::new();
+    for chunk in part.split_whitespace() {
+        let mut rest = chunk;
+        while !rest.is_empty() {
+            let (piece, tail) = match rest.find('.') {
+                Some(p) => (&rest[..=p], &rest[p + 1..]),
+                None => (rest, ""),
+            };
+            rest = tail;
+            let dotted = piece.ends_with('.');
+            let text = clean_text(piece);
+            if text.is_empty() {
+                continue;
+            }
+            out.push(RawWord {
+                key: text.replace('-', ""),
+                dotted,
+                text,
+            });
+        }
+    }
+    out
+}
+
+fn is_title(w: &RawWord, country: Option<&str>) -> bool {
+    if TITLES.contains(&w.key.as_str()) {
+        return true;
+    }
+    let in_list = |list: &[&str]| country.is_some_and(|c| list.contains(&c));
+    w.dotted
+        && ((w.key == "m" && in_list(FRENCH_SPEAKING))
+            || (w.key == "d" && in_list(SPANISH_SPEAKING)))
+}
+
+fn is_suffix(w: &RawWord) -> bool {
+    SUFFIXES.contains(&w.key.as_str())
+}
+
+/// Remove leading titles and trailing suffixes, never the last remaining word.
+/// Returns the kept words' cleaned texts and whether anything was removed.
+fn strip(words: Vec<RawWord>, country: Option<&str>) -> (Vec<String>, bool) {
+    let mut start = 0;
+    let mut end = words.len();
+    while end - start > 1 && is_title(&words[start], country) {
+        start += 1;
+    }
+    while end - start > 1 && is_suffix(&words[end - 1]) {
+        end -= 1;
+    }
+    let stripped = start > 0 || end < words.len();
+    let kept = words
+        .into_iter()
+        .skip(start)
+        .take(end - start)
+        .flat_map(|w| w.text.split(' ').map(str::to_string).collect::<Vec<_>>())
+        .collect();
+    (kept, stripped)
+}
+
+/// Clean a given-name or family-name value: titles and suffixes removed.
+/// Returns `None` when nothing is left, and whether titles or suffixes were removed.
+pub fn clean_name_part(raw: &str, country: Option<&str>) -> (Option<String>, bool) {
+    let words = raw_words(&raw.replace(',', " "));
+    let (kept, stripped) = strip(words, country);
+    let joined = kept.join(" ");
+    ((!joined.is_empty()).then_some(joined), stripped)
+}
+
+fn join(words: &[String]) -> Option<String> {
+    (!words.is_empty()).then(|| words.join(" "))
+}
+
+/// Split a full name into given and family name (rules in the module doc).
+/// `None` when nothing usable is left.
+pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Option<SplitName> {
+    let mut stripped = false;
+    let mut parts: Vec<Vec<String>> = Vec::new();
+    for part in raw.split([',', ';']) {
+        let words = raw_words(part);
+        if words.is_empty() {
+            continue;
+        }
+        // A later comma part made only of suffixes or titles: "Smith, John, Jr.".
+        if !parts.is_empty() && words.iter().all(|w| is_suffix(w) || is_title(w, country)) {
+            stripped = true;
+            continue;
+        }
+        let (kept, s) = strip(words, country);
+        stripped |= s;
+        parts.push(kept);
+    }
+    let (given, family) = match parts.len() {
+        0 => return None,
+        1 => {
+            let w = &parts[0];
+            if w.len() == 1 {
+                (None, join(w))
+            } else {
+                match order {
+                    NameOrder::GivenFirst => {
+                        let mut start = w.len() - 1;
+                        while start >= 2 && is_particle(&w[start - 1]) {
+                            start -= 1;
+                        }
+                        (join(&w[..start]), join(&w[start..]))
+                    }
+                    NameOrder::FamilyFirst => {
+                        let mut end = 0;
+                        while end + 1 < w.len() && is_particle(&w[end]) {
+                            end += 1;
+                        }
+                        (join(&w[end + 1..]), join(&w[..=end]))
+                    }
+                }
+            }
+        }
+        _ => {
+            let given: Vec<String> = parts[1..].iter().flatten().cloned().collect();
+            (join(&given), join(&parts[0]))
+        }
+    };
+    Some(SplitName {
+        given,
+        family,
+        stripped,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn split(raw: &str) -> (Option<String>, Option<String>) {
+        let s = split_full_name(raw, NameOrder::GivenFirst, None).unwrap();
+        (s.given, s.family)
+    }
+
+    fn gf(g: &str, f: &str) -> (Option<String>, Option<String>) {
+        (Some(g.to_string()), Some(f.to_string()))
+    }
+
+    #[test]
+    fn both_full_name_forms() {
+        // Common practice, no source: "Family, Given" and "Given Family".
+        assert_eq!(split("Smith, John"), gf("john", "smith"));
+        assert_eq!(split("John Smith"), gf("john", "smith"));
+        assert_eq!(split("Mary Ann Smith"), gf("mary ann", "smith"));
+        let ff = split_full_name("Smith John", NameOrder::FamilyFirst, None).unwrap();
+        assert_eq!((ff.given, ff.family), gf("john", "smith"));
+        let ff = split_full_name("van der Berg Jan", NameOrder::FamilyFirst, None).unwrap();
+        assert_eq!((ff.given, ff.family), gf("jan", "van der berg"));
+    }
+
+    #[test]
+    fn particles_stay_with_family_name() {
+        assert_eq!(split("Ludwig van Beethoven"), gf("ludwig", "van beethoven"));
+        assert_eq!(split("Juan de la Cruz"), gf("juan", "de la cruz"));
+        assert_eq!(split("Anna von der Heide"), gf("anna", "von der heide"));
+        assert_eq!(split("Leonardo da Vinci"), gf("leonardo", "da vinci"));
+        assert_eq!(split("van Gogh, Vincent"), gf("vincent", "van gogh"));
+        // The first word is never taken for the family name.
+        assert_eq!(split("Van Morrison"), gf("van", "morrison"));
+    }
+
+    #[test]
+    fn hyphens_kept() {
+        assert_eq!(
+            split("Hans-Peter Müller-Lüdenscheidt"),
+            gf("hans-peter", "müller-lüdenscheidt")
+        );
+    }
+
+    #[test]
+    fn titles_removed() {
+        assert_eq!(split("Dr. John Smith"), gf("john", "smith"));
+        assert_eq!(split("Prof. Dr. Anna Schmidt"), gf("anna", "schmidt"));
+        assert_eq!(split("Herr Jörg Müller"), gf("jörg", "müller"));
+        assert_eq!(split("Frau Petra Groß"), gf("petra", "gross"));
+        assert_eq!(split("Mme Claire Dubois"), gf("claire", "dubois"));
+        assert_eq!(split("Sra. María García"), gf("maría", "garcía"));
+        assert_eq!(split("Dña. Carmen López"), gf("carmen", "lópez"));
+        assert_eq!(split("Smith, Mrs. Jane"), gf("jane", "smith"));
+        let s = split_full_name("Mr John Smith", NameOrder::GivenFirst, None).unwrap();
+        assert!(s.stripped);
+    }
+
+    #[test]
+    fn one_letter_titles_depend_on_country() {
+        let fr = split_full_name("M. Jean Dupont", NameOrder::GivenFirst, Some("FR")).unwrap();
+        assert_eq!((fr.given, fr.family), gf("jean", "dupont"));
+        let es = split_full_name("D. Juan Pérez", NameOrder::GivenFirst, Some("ES")).unwrap();
+        assert_eq!((es.given, es.family), gf("juan", "pérez"));
+        // Elsewhere an initial: "M. John Smith" keeps the M.
+        let us = split_full_name("M. John Smith", NameOrder::GivenFirst, Some("US")).unwrap();
+        assert_eq!((us.given, us.family), gf("m john", "smith"));
+    }
+
+    #[test]
+    fn suffixes_removed_and_sr_rule() {
+        assert_eq!(split("John Smith Jr."), gf("john", "smith"));
+        assert_eq!(split("John Smith III"), gf("john", "smith"));
+        assert_eq!(split("Smith, John, Jr."), gf("john", "smith"));
+        assert_eq!(split("John Smith, Jr"), gf("john", "smith"));
+        // "Sr." first = Spanish title, last = English suffix; both removed.
+        assert_eq!(split("Sr. Juan García"), gf("juan", "garcía"));
+        assert_eq!(split("John Smith Sr."), gf("john", "smith"));
+        // A one-word part keeps its only word.
+        assert_eq!(clean_name_part("Sr", None), (Some("sr".to_string()), false));
+    }
+
+    #[test]
+    fn one_word_is_family_name() {
+        assert_eq!(split("Madonna"), (None, Some("madonna".to_string())));
+        assert!(split_full_name(" , . ", NameOrder::GivenFirst, None).is_none());
+    }
+
+    #[test]
+    fn full_string_is_family_comma_given() {
+        let s = split_full_name("John Smith", NameOrder::GivenFirst, None).unwrap();
+        assert_eq!(s.full().as_deref(), Some("smith, john"));
+        // Standardizing the output again gives the same split, whatever the order.
+        for order in [NameOrder::GivenFirst, NameOrder::FamilyFirst] {
+            let again = split_full_name("smith, john", order, None).unwrap();
+            assert_eq!(again.full().as_deref(), Some("smith, john"));
+        }
+    }
+
+    #[test]
+    fn name_parts_cleaned() {
+        assert_eq!(
+            clean_name_part("  O'Brien ", None).0.as_deref(),
+            Some("obrien")
+        );
+        assert_eq!(
+            clean_name_part("Dr. Anna", None),
+            (Some("anna".to_string()), true)
+        );
+        assert_eq!(
+            clean_name_part("Smith Jr.", None),
+            (Some("smith".to_string()), true)
+        );
+        assert_eq!(clean_name_part("Müller", None).0.as_deref(), Some("müller"));
+        assert_eq!(clean_name_part("...", None).0, None);
+    }
+}
