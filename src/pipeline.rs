@@ -169,17 +169,13 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     }
     clock = t.record("block", clock);
 
+    let mut counts = None;
     let (model, fitted) = match loaded_model {
         Some(m) => (m, false),
         None => {
-            let counts = count_patterns(
-                spec,
-                &table,
-                &blocking,
-                &comparison,
-                &tasks,
-                &Progress::hidden(),
-            )?;
+            let bar = Progress::bar(opts.progress, "count vectors", tasks.len() as u64, "tasks");
+            let c = count_patterns(spec, &table, &blocking, &comparison, &tasks, &bar)?;
+            bar.finish();
             clock = t.record("compare (count vectors)", clock);
             let (u, u_pairs) = model::estimate_u(
                 &table,
@@ -187,12 +183,29 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
                 spec.model.u_sample_pairs,
                 spec.model.seed,
             );
-            let m = model::fit(spec, &comparison, table.len() as u64, &counts, u, u_pairs)?;
+            let m = model::fit(spec, &comparison, table.len() as u64, &c, u, u_pairs)?;
+            counts = Some(c);
             clock = t.record("fit (EM)", clock);
             (m, true)
         }
     };
-    let classifier = Classifier::new(spec.classify.thresholds, model.lambda);
+    let mut classifier = Classifier::new(spec.classify.thresholds);
+    let scorer = model::Scorer::new(&model, &comparison, &table, &spec.blocks);
+    if let Some(target) = opts.target_precision {
+        let c = match counts {
+            Some(c) => c,
+            None => count_patterns(
+                spec,
+                &table,
+                &blocking,
+                &comparison,
+                &tasks,
+                &Progress::hidden(),
+            )?,
+        };
+        classifier = threshold_for_target(&classifier, &scorer, &c, target)?;
+        clock = t.record("choose threshold", clock);
+    }
 
     let mut staging = Staging::new(&opts.out)?;
     let bar = Progress::bar(opts.progress, "score pairs", tasks.len() as u64, "tasks");
@@ -200,7 +213,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         &table,
         &blocking,
         &comparison,
-        &model,
+        &scorer,
         &classifier,
         &tasks,
         opts.pairs,
@@ -227,14 +240,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         clock = t.record("cluster + keys", clock);
         Some(c)
     };
-    write_review(
-        &mut staging,
-        &table,
-        &comparison,
-        &model,
-        &classifier,
-        &scored.linked,
-    )?;
+    write_review(&mut staging, &table, &comparison, &scorer, &scored.linked)?;
     let mut w = staging.csv("rejects.csv")?;
     write_rejects(&mut w, &loaded.rejects)?;
     w.finish()?;
@@ -518,7 +524,9 @@ fn count_patterns(
 struct Linked {
     a: u32,
     b: u32,
+    key: usize,
     weight: f64,
+    probability: f64,
     decision: Decision,
     gamma: Gamma,
 }
@@ -545,14 +553,13 @@ fn score(
     table: &RecordTable,
     blocking: &Blocking,
     comparison: &Comparison,
-    model: &Model,
+    scorer: &model::Scorer,
     classifier: &Classifier,
     tasks: &[Task],
     which: PairsOutput,
     staging: &mut Staging,
     progress: &Progress,
 ) -> Result<Scored> {
-    let scorer = model::Scorer::new(model, comparison, table);
     let mut out = staging.csv("pairs.csv")?;
     let mut header =
         String::from("source_a,id_a,source_b,id_b,match_weight,match_probability,decision");
@@ -585,23 +592,28 @@ fn score(
                     blocking.for_each_pair(task, |a, b| {
                         per_key[task.key] += 1;
                         let g = comparison.gamma(table, a, b, &mut scratch);
-                        let w = scorer.weight(&g, a);
-                        let d = classifier.decide(w);
-                        histogram.add(w, classifier.probability(w), 1);
+                        let key = Some(task.key);
+                        let w = scorer.weight(key, &g, a);
+                        let prior = scorer.prior(key);
+                        let score = classifier.score(w, prior);
+                        let p = Classifier::probability(w, prior);
+                        let d = classifier.decide(score);
+                        histogram.add(score, p, 1);
                         decisions[d as usize] += 1;
+                        let pair = Linked {
+                            a,
+                            b,
+                            key: task.key,
+                            weight: w,
+                            probability: p,
+                            decision: d,
+                            gamma: g,
+                        };
                         if which == PairsOutput::All || d != Decision::NonMatch {
-                            pair_line(
-                                &mut text, table, comparison, &scorer, classifier, a, b, w, d, &g,
-                            );
+                            pair_line(&mut text, table, comparison, scorer, &pair);
                         }
                         if d != Decision::NonMatch {
-                            linked.push(Linked {
-                                a,
-                                b,
-                                weight: w,
-                                decision: d,
-                                gamma: g,
-                            });
+                            linked.push(pair);
                         }
                     });
                     progress.inc(1);
@@ -638,22 +650,15 @@ fn score(
     Ok(result)
 }
 
-#[allow(clippy::too_many_arguments)]
 fn pair_line(
     text: &mut String,
     table: &RecordTable,
     comparison: &Comparison,
     scorer: &model::Scorer,
-    classifier: &Classifier,
-    a: u32,
-    b: u32,
-    w: f64,
-    d: Decision,
-    g: &Gamma,
+    p: &Linked,
 ) {
     use std::fmt::Write;
-    let first = a;
-    let (a, b) = (a as usize, b as usize);
+    let (a, b) = (p.a as usize, p.b as usize);
     push_field(text, table.source_name(a));
     text.push(',');
     push_field(text, &table.id[a]);
@@ -661,13 +666,64 @@ fn pair_line(
     push_field(text, table.source_name(b));
     text.push(',');
     push_field(text, &table.id[b]);
-    let _ = write!(text, ",{},{:.6},{}", w, classifier.probability(w), d.name());
+    let _ = write!(
+        text,
+        ",{},{:.6},{}",
+        p.weight,
+        p.probability,
+        p.decision.name()
+    );
     for (k, c) in comparison.comparators.iter().enumerate() {
         text.push(',');
-        push_field(text, c.level_name(g[k]));
-        let _ = write!(text, ",{:.4}", scorer.contribution(k, g[k], first));
+        push_field(text, c.level_name(p.gamma[k]));
+        let _ = write!(
+            text,
+            ",{:.4}",
+            scorer.contribution(Some(p.key), k, p.gamma[k], p.a)
+        );
     }
     text.push('\n');
+}
+
+/// The classifier with its upper threshold moved to where the model's estimated
+/// precision reaches `target`, estimated from the comparison vector counts of pass 1
+/// (value-frequency adjustments left out).
+fn threshold_for_target(
+    classifier: &Classifier,
+    scorer: &model::Scorer,
+    counts: &[KeyCounts],
+    target: f64,
+) -> Result<Classifier> {
+    let mut h = WeightHistogram::default();
+    for (k, key) in counts.iter().enumerate() {
+        let prior = scorer.prior(Some(k));
+        for (codes, n) in key.counts.iter() {
+            let mut g = [crate::compare::MISSING_LEVEL; crate::compare::MAX_ATTRS];
+            g[..codes.len()].copy_from_slice(&codes);
+            // No record index: frequency adjustments need one, so use the plain weights.
+            let w: f64 = (0..codes.len())
+                .map(|a| scorer.contribution_plain(Some(k), a, g[a]))
+                .sum();
+            h.add(
+                classifier.score(w, prior),
+                Classifier::probability(w, prior),
+                n,
+            );
+        }
+    }
+    let Some(upper) = h.threshold_for_precision(target) else {
+        let best = h.estimate(f64::INFINITY);
+        return Err(Error::Usage(format!(
+            "no match threshold reaches an estimated precision of {target}; the strictest \
+             threshold gives {:.4}. Lower --target-precision",
+            best.precision
+        )));
+    };
+    Ok(Classifier {
+        upper,
+        lower: classifier.lower.min(upper),
+        ..*classifier
+    })
 }
 
 /// `review.csv`: the review pairs with the values compared, strongest first.
@@ -675,11 +731,9 @@ fn write_review(
     staging: &mut Staging,
     table: &RecordTable,
     comparison: &Comparison,
-    model: &Model,
-    classifier: &Classifier,
+    scorer: &model::Scorer,
     linked: &[Linked],
 ) -> Result<()> {
-    let scorer = model::Scorer::new(model, comparison, table);
     let mut w = staging.csv("review.csv")?;
     let mut header: Vec<String> = [
         "source_a",
@@ -721,12 +775,12 @@ fn write_review(
             table.source_name(b).to_string(),
             table.id[b].clone(),
             format!("{:.4}", p.weight),
-            format!("{:.6}", classifier.probability(p.weight)),
+            format!("{:.6}", p.probability),
             p.decision.name().to_string(),
         ];
         for (k, c) in comparison.comparators.iter().enumerate() {
             let code = p.gamma[k];
-            let wk = scorer.contribution(k, code, p.a);
+            let wk = scorer.contribution(Some(p.key), k, code, p.a);
             row.push(c.level_name(code).to_string());
             row.push(format!("{wk:.4}"));
             row.push(table.get(a, c.attr).unwrap_or("").to_string());
@@ -807,45 +861,60 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
     let clock = t.record("read + block", clock);
     let n_levels = comparison.n_levels();
     let k = comparison.len();
-    let per_key: Vec<(AtomicU64, AtomicU64)> = blocking
-        .keys
-        .iter()
-        .map(|_| (AtomicU64::new(0), AtomicU64::new(0)))
-        .collect();
-    let level_counts: Vec<Vec<Vec<u64>>> = chunks(&tasks)
+    let n_keys = blocking.keys.len();
+    // Level counts per key, per class (0 = true match, 1 = non-match), per attribute.
+    type Counts = Vec<[Vec<Vec<u64>>; 2]>;
+    let empty = || -> Counts {
+        (0..n_keys)
+            .map(|_| {
+                let rows = || n_levels.iter().map(|&l| vec![0u64; l]).collect::<Vec<_>>();
+                [rows(), rows()]
+            })
+            .collect()
+    };
+    let pair_counts: Vec<AtomicU64> = (0..2 * n_keys).map(|_| AtomicU64::new(0)).collect();
+    let parts: Vec<Counts> = chunks(&tasks)
         .into_par_iter()
         .map(|chunk| {
-            let mut counts: Vec<Vec<u64>> = n_levels.iter().map(|&l| vec![0; l]).collect();
+            let mut counts = empty();
             let mut scratch = comparison.scratch();
             for task in chunk {
-                let (mut pairs, mut matches) = (0u64, 0u64);
+                let mut seen = [0u64; 2];
                 blocking.for_each_pair(task, |a, b| {
-                    pairs += 1;
-                    if entity[a as usize] != entity[b as usize] {
-                        return;
-                    }
-                    matches += 1;
+                    let class = usize::from(entity[a as usize] != entity[b as usize]);
+                    seen[class] += 1;
                     let g = comparison.gamma(&table, a, b, &mut scratch);
-                    for (kk, row) in counts.iter_mut().enumerate().take(k) {
+                    for (kk, row) in counts[task.key][class].iter_mut().enumerate().take(k) {
                         if g[kk] != crate::compare::MISSING_LEVEL {
                             row[g[kk] as usize] += 1;
                         }
                     }
                 });
-                per_key[task.key].0.fetch_add(pairs, Ordering::Relaxed);
-                per_key[task.key].1.fetch_add(matches, Ordering::Relaxed);
+                pair_counts[2 * task.key].fetch_add(seen[0], Ordering::Relaxed);
+                pair_counts[2 * task.key + 1].fetch_add(seen[1], Ordering::Relaxed);
             }
             counts
         })
         .collect();
-    let mut counts: Vec<Vec<u64>> = n_levels.iter().map(|&l| vec![0; l]).collect();
-    for part in level_counts {
-        for (row, prow) in counts.iter_mut().zip(part) {
-            for (x, y) in row.iter_mut().zip(prow) {
-                *x += y;
+    let mut by_key = empty();
+    for part in parts {
+        for (t, p) in by_key.iter_mut().zip(part) {
+            for (tc, pc) in t.iter_mut().zip(p) {
+                for (row, prow) in tc.iter_mut().zip(pc) {
+                    for (x, y) in row.iter_mut().zip(prow) {
+                        *x += y;
+                    }
+                }
             }
         }
     }
+    let smooth = |row: &[u64]| -> Vec<f64> {
+        let total: u64 = row.iter().sum();
+        let denom = total as f64 + model::M_SMOOTHING * row.len() as f64;
+        row.iter()
+            .map(|&x| (x as f64 + model::M_SMOOTHING) / denom)
+            .collect()
+    };
     let (u, u_pairs) = model::estimate_u(
         &table,
         &comparison,
@@ -853,20 +922,54 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
         spec.model.seed,
     );
     let mut blocks = Vec::new();
+    let mut counts: Vec<Vec<u64>> = n_levels.iter().map(|&l| vec![0; l]).collect();
     let (mut cand, mut matches) = (0u64, 0u64);
-    for (kb, (p, m)) in blocking.keys.iter().zip(&per_key) {
-        let (p, m) = (p.load(Ordering::Relaxed), m.load(Ordering::Relaxed));
+    for (b, (kb, spec_b)) in blocking.keys.iter().zip(&spec.blocks).enumerate() {
+        let m_pairs = pair_counts[2 * b].load(Ordering::Relaxed);
+        let p = m_pairs + pair_counts[2 * b + 1].load(Ordering::Relaxed);
         cand += p;
-        matches += m;
+        matches += m_pairs;
+        for (row, krow) in counts.iter_mut().zip(&by_key[b][0]) {
+            for (x, y) in row.iter_mut().zip(krow) {
+                *x += y;
+            }
+        }
+        let key_attrs: Vec<_> = spec_b.keys.iter().map(|part| part.attr).collect();
+        let excluded: Vec<bool> = comparison
+            .comparators
+            .iter()
+            .map(|c| key_attrs.contains(&c.attr))
+            .collect();
+        let rows = |class: usize| -> Vec<Vec<f64>> {
+            by_key[b][class]
+                .iter()
+                .zip(&excluded)
+                .map(|(row, e)| if *e { Vec::new() } else { smooth(row) })
+                .collect()
+        };
+        let lambda = if p == 0 {
+            0.0
+        } else {
+            m_pairs as f64 / p as f64
+        };
         blocks.push(model::BlockFit {
             name: kb.name.clone(),
             pairs: p,
             patterns: 0,
-            lambda: if p == 0 { 0.0 } else { m as f64 / p as f64 },
-            excluded: Vec::new(),
+            lambda,
+            excluded: comparison
+                .comparators
+                .iter()
+                .zip(&excluded)
+                .filter(|(_, e)| **e)
+                .map(|(c, _)| c.attr.name().to_string())
+                .collect(),
             iterations: 0,
             converged: true,
             loglik_trace: Vec::new(),
+            local: p >= model::MIN_LOCAL_PAIRS && lambda > 1e-6 && lambda < 1.0 - 1e-6,
+            m: rows(0),
+            u: rows(1),
         });
     }
     let n = table.len() as u64;
@@ -993,9 +1096,14 @@ pub fn explain(
     let (ra, rb) = (find(a)?, find(b)?);
     let blocking = Blocking::build(&table, &spec.blocks, u64::MAX)?;
     let comparison = Comparison::new(&spec.compares, &table);
-    let scorer = model::Scorer::new(model, &comparison, &table);
-    let classifier = Classifier::new(spec.classify.thresholds, model.lambda);
+    let scorer = model::Scorer::new(model, &comparison, &table, &spec.blocks);
+    let classifier = Classifier::new(spec.classify.thresholds);
     let g = comparison.gamma(&table, ra, rb, &mut comparison.scratch());
+    // The pair is scored as the first blocking key that produces it would score it.
+    let key = blocking.keys.iter().position(|kb| {
+        let x = kb.key_of[ra as usize];
+        x != crate::block::NO_KEY && x == kb.key_of[rb as usize]
+    });
     let attrs = comparison
         .comparators
         .iter()
@@ -1005,10 +1113,11 @@ pub fn explain(
             value_a: table.get(ra as usize, c.attr).map(String::from),
             value_b: table.get(rb as usize, c.attr).map(String::from),
             level: c.level_name(g[k]).to_string(),
-            weight: scorer.contribution(k, g[k], ra),
+            weight: scorer.contribution(key, k, g[k], ra),
         })
         .collect();
-    let weight = scorer.weight(&g, ra);
+    let weight = scorer.weight(key, &g, ra);
+    let prior = scorer.prior(key);
     let blocked_by = blocking
         .keys
         .iter()
@@ -1021,8 +1130,8 @@ pub fn explain(
     Ok(Explanation {
         attrs,
         weight,
-        probability: classifier.probability(weight),
-        decision: classifier.decide(weight),
+        probability: Classifier::probability(weight, prior),
+        decision: classifier.decide(classifier.score(weight, prior)),
         blocked_by,
     })
 }

@@ -192,6 +192,12 @@ fn sharded_runs_merge_into_the_unsharded_crosswalk() {
         std::fs::read(d.join("whole/crosswalk.csv")).unwrap(),
         std::fs::read(merged.join("crosswalk.csv")).unwrap()
     );
+    // The mini data holds 11 customers (tests/data/mini/truth.csv); the run finds them.
+    let keys: std::collections::HashSet<String> = read_csv(&merged.join("crosswalk.csv"))[1..]
+        .iter()
+        .map(|r| r[2].clone())
+        .collect();
+    assert_eq!(keys.len(), 11);
     // Every candidate pair is scored by exactly one shard.
     let whole = read_csv(&d.join("whole/pairs.csv")).len() - 1;
     let parts: usize = (1..=3)
@@ -238,4 +244,64 @@ fn explain_shows_levels_values_and_weights() {
     );
     assert_eq!(o.status.code(), Some(2));
     assert!(text(&o).1.contains("crm, shop"), "{}", text(&o).1);
+}
+
+#[test]
+fn mini_data_links_exactly_its_true_customers() {
+    let dir = mini_copy();
+    let truth = mini().join("truth.csv");
+    let o = link(
+        dir.path(),
+        "out",
+        &["--truth", truth.to_str().unwrap()],
+        None,
+    );
+    let (out, err) = text(&o);
+    assert!(o.status.success(), "{err}");
+    // Invented data with obvious links (tests/data/mini): every true pair, nothing else.
+    let pairwise = out.lines().find(|l| l.starts_with("pairwise")).unwrap();
+    assert_eq!(
+        pairwise.split_whitespace().collect::<Vec<_>>()[1..],
+        ["1.000000"; 3],
+        "{out}"
+    );
+}
+
+#[test]
+fn demo_meets_its_quality_targets() {
+    let out = tempfile::tempdir().unwrap();
+    let o = run(&["demo", "--out", out.path().to_str().unwrap()], None);
+    let (stdout, err) = text(&o);
+    assert!(o.status.success(), "{err}");
+    let f1 = |name: &str| -> f64 {
+        let line = stdout.lines().find(|l| l.starts_with(name)).unwrap();
+        line.split_whitespace().nth(3).unwrap().parse().unwrap()
+    };
+    // Targets for the demo: pairwise F1 >= 0.95, B-cubed F1 >= 0.97, no truth used in fitting.
+    assert!(f1("pairwise") >= 0.95, "{stdout}");
+    assert!(f1("B-cubed") >= 0.97, "{stdout}");
+}
+
+#[test]
+fn committed_model_files_keep_loading() {
+    // One fixture per model-file version; version 1 was fitted on the demo data.
+    let spec = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/spec.toml");
+    for model in ["tests/data/model-v1.toml", "models/demo.toml"] {
+        let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(model);
+        let out = tempfile::tempdir().unwrap();
+        let o = run(
+            &[
+                "--quiet",
+                "link",
+                "--spec",
+                spec.to_str().unwrap(),
+                "--model",
+                model.to_str().unwrap(),
+                "--out",
+                out.path().to_str().unwrap(),
+            ],
+            None,
+        );
+        assert!(o.status.success(), "{}: {}", model.display(), text(&o).1);
+    }
 }

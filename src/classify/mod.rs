@@ -1,10 +1,9 @@
 //! Classify: a pair's match weight in, its match probability and decision out.
 //!
 //! The match weight is the log2 likelihood ratio `Σ log2(m/u)` over the compared
-//! attributes (missing values add nothing). With the match prior λ over all record pairs
-//! the match probability is `1 / (1 + 2^-(W + log2(λ / (1 − λ))))`. Thresholds are given as
-//! probabilities or as weights; both become weight thresholds here, so deciding a pair is
-//! two comparisons.
+//! attributes (missing values add nothing). With the match prior λ of the model that
+//! scored the pair the match probability is `1 / (1 + 2^-(W + log2(λ / (1 − λ))))`.
+//! Thresholds are given as probabilities (compared in log2 odds) or as weights.
 
 use crate::spec::Thresholds;
 
@@ -31,52 +30,87 @@ impl Decision {
 }
 
 /// Turns weights into probabilities and decisions.
+///
+/// A pair's *score* is what the thresholds are compared with: its posterior log2 odds
+/// `W + log2(λ / (1 − λ))` when thresholds are probabilities, or its match weight `W`
+/// when thresholds are weights. The prior `λ` comes with the model that scored the pair.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Classifier {
-    /// Weight at or above which a pair is a match.
+    /// Score at or above which a pair is a match.
     pub upper: f64,
-    /// Weight at or above which (and below `upper`) a pair goes to review.
+    /// Score at or above which (and below `upper`) a pair goes to review.
     pub lower: f64,
-    /// `log2(λ / (1 − λ))`, the prior odds of a match over all record pairs.
-    pub prior_log2_odds: f64,
+    /// True when scores are match weights, false when they are posterior log2 odds.
+    pub by_weight: bool,
 }
 
 impl Classifier {
-    /// Build from the spec's thresholds and the match prior `lambda` over all pairs.
-    pub fn new(thresholds: Thresholds, lambda: f64) -> Classifier {
-        let lambda = lambda.clamp(1e-300, 1.0 - 1e-12);
-        let prior_log2_odds = (lambda / (1.0 - lambda)).log2();
-        let (upper, lower) = match thresholds {
-            Thresholds::Weight { upper, lower } => (upper, lower),
-            Thresholds::Probability { upper, lower } => (
-                log2_odds(upper) - prior_log2_odds,
-                log2_odds(lower) - prior_log2_odds,
-            ),
-        };
-        Classifier {
-            upper,
-            lower,
-            prior_log2_odds,
+    /// Build from the spec's thresholds.
+    pub fn new(thresholds: Thresholds) -> Classifier {
+        match thresholds {
+            Thresholds::Weight { upper, lower } => Classifier {
+                upper,
+                lower,
+                by_weight: true,
+            },
+            Thresholds::Probability { upper, lower } => Classifier {
+                upper: log2_odds(upper),
+                lower: log2_odds(lower),
+                by_weight: false,
+            },
         }
     }
 
-    /// Match probability of a pair with weight `w`.
+    /// The score of a pair with weight `w` under prior log2 odds `prior`.
     #[inline]
-    pub fn probability(&self, w: f64) -> f64 {
-        1.0 / (1.0 + (-(w + self.prior_log2_odds)).exp2())
+    pub fn score(&self, w: f64, prior: f64) -> f64 {
+        if self.by_weight {
+            w
+        } else {
+            w + prior
+        }
     }
 
-    /// Decision for weight `w`.
+    /// Match probability of a pair with weight `w` under prior log2 odds `prior`.
     #[inline]
-    pub fn decide(&self, w: f64) -> Decision {
-        if w >= self.upper {
+    pub fn probability(w: f64, prior: f64) -> f64 {
+        1.0 / (1.0 + (-(w + prior)).exp2())
+    }
+
+    /// Decision for a score.
+    #[inline]
+    pub fn decide(&self, score: f64) -> Decision {
+        if score >= self.upper {
             Decision::Match
-        } else if w >= self.lower {
+        } else if score >= self.lower {
             Decision::Review
         } else {
             Decision::NonMatch
         }
     }
+
+    /// The thresholds in words.
+    pub fn describe(&self) -> String {
+        if self.by_weight {
+            format!(
+                "match at weight >= {:.2}, review at weight >= {:.2}",
+                self.upper, self.lower
+            )
+        } else {
+            let p = |x: f64| 1.0 / (1.0 + (-x).exp2());
+            format!(
+                "match at probability >= {:.4}, review at probability >= {:.4}",
+                p(self.upper),
+                p(self.lower)
+            )
+        }
+    }
+}
+
+/// log2 prior odds of a match prior `lambda`.
+pub fn prior_log2_odds(lambda: f64) -> f64 {
+    let l = lambda.clamp(1e-300, 1.0 - 1e-12);
+    (l / (1.0 - l)).log2()
 }
 
 fn log2_odds(p: f64) -> f64 {
@@ -196,22 +230,26 @@ mod tests {
     use proptest::prelude::*;
 
     #[test]
-    fn probability_thresholds_become_weights() {
+    fn probability_thresholds_are_log_odds() {
         // λ = 1/1025: prior odds 1:1024, log2 = -10.
-        let c = Classifier::new(
-            Thresholds::Probability {
-                upper: 0.8,
-                lower: 0.5,
-            },
-            1.0 / 1025.0,
-        );
-        assert!((c.prior_log2_odds + 10.0).abs() < 1e-9);
-        assert!((c.lower - 10.0).abs() < 1e-9);
-        assert!((c.upper - 12.0).abs() < 1e-9); // log2(0.8/0.2) = 2
-        assert!((c.probability(10.0) - 0.5).abs() < 1e-12);
-        assert_eq!(c.decide(12.0), Decision::Match);
-        assert_eq!(c.decide(11.0), Decision::Review);
-        assert_eq!(c.decide(9.99), Decision::NonMatch);
+        let prior = prior_log2_odds(1.0 / 1025.0);
+        assert!((prior + 10.0).abs() < 1e-9);
+        let c = Classifier::new(Thresholds::Probability {
+            upper: 0.8,
+            lower: 0.5,
+        });
+        assert!((c.lower - 0.0).abs() < 1e-12);
+        assert!((c.upper - 2.0).abs() < 1e-12); // log2(0.8/0.2) = 2
+        assert!((Classifier::probability(10.0, prior) - 0.5).abs() < 1e-12);
+        assert_eq!(c.decide(c.score(12.01, prior)), Decision::Match);
+        assert_eq!(c.decide(c.score(11.0, prior)), Decision::Review);
+        assert_eq!(c.decide(c.score(9.99, prior)), Decision::NonMatch);
+        let w = Classifier::new(Thresholds::Weight {
+            upper: 12.0,
+            lower: 8.0,
+        });
+        assert_eq!(w.decide(w.score(12.0, prior)), Decision::Match);
+        assert_eq!(w.decide(w.score(9.0, -100.0)), Decision::Review);
     }
 
     #[test]
@@ -238,11 +276,12 @@ mod tests {
         fn probability_is_monotone_and_agrees_with_decision(
             lambda in 1e-9f64..0.5, w1 in -40.0f64..40.0, w2 in -40.0f64..40.0
         ) {
-            let c = Classifier::new(Thresholds::Probability { upper: 0.9, lower: 0.4 }, lambda);
+            let c = Classifier::new(Thresholds::Probability { upper: 0.9, lower: 0.4 });
+            let prior = prior_log2_odds(lambda);
             let (lo, hi) = if w1 <= w2 { (w1, w2) } else { (w2, w1) };
-            prop_assert!(c.probability(lo) <= c.probability(hi));
-            let p = c.probability(hi);
-            match c.decide(hi) {
+            prop_assert!(Classifier::probability(lo, prior) <= Classifier::probability(hi, prior));
+            let p = Classifier::probability(hi, prior);
+            match c.decide(c.score(hi, prior)) {
                 Decision::Match => prop_assert!(p >= 0.9 - 1e-9),
                 Decision::Review => prop_assert!((0.4 - 1e-9..0.9 + 1e-9).contains(&p)),
                 Decision::NonMatch => prop_assert!(p < 0.4 + 1e-9),

@@ -66,10 +66,15 @@ pub fn print(s: &RunSummary, timings: bool) {
                 format!(", without {}", b.excluded.join(", "))
             };
             println!(
-                "    {:<20} λ = {:.4}  iterations {:>3}{}{}",
+                "    {:<20} λ = {:.4}  iterations {:>3}  scored with {}{}{}",
                 b.name,
                 b.lambda,
                 b.iterations,
+                if b.local {
+                    "its own fit"
+                } else {
+                    "the combined model"
+                },
                 if b.converged { "" } else { " (not converged)" },
                 excluded
             );
@@ -80,10 +85,7 @@ pub fn print(s: &RunSummary, timings: bool) {
     for w in &s.model.warnings {
         println!("  warning: {w}");
     }
-    println!(
-        "  thresholds: match at weight ≥ {:.2}, review at weight ≥ {:.2}",
-        s.classifier.upper, s.classifier.lower
-    );
+    println!("  thresholds: {}", s.classifier.describe());
     println!(
         "  estimated at the match threshold (from the model, no labels): precision {:.4}, \
          recall {:.4} of the candidates' matches",

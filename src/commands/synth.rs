@@ -52,3 +52,44 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     }
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn run_writes_the_files() {
+        let dir = tempfile::tempdir().unwrap();
+        let out = dir.path().join("out");
+        let args = Args {
+            customers: 50,
+            seed: 3,
+            out: out.clone(),
+        };
+        run(&args, Global { quiet: true }).unwrap();
+        for f in [
+            "crm_contacts.csv",
+            "webshop_accounts.csv",
+            "support_tickets.csv",
+            "truth.csv",
+            "spec.toml",
+        ] {
+            assert!(out.join(f).is_file(), "{f}");
+        }
+    }
+
+    #[test]
+    fn too_many_customers_is_bad_input() {
+        let dir = tempfile::tempdir().unwrap();
+        let args = Args {
+            customers: synth::MAX_CUSTOMERS + 1,
+            seed: 3,
+            out: dir.path().to_path_buf(),
+        };
+        let err = run(&args, Global { quiet: true }).unwrap_err();
+        assert_eq!(
+            super::super::status_of(&err),
+            super::super::ExitStatus::BadInput
+        );
+    }
+}

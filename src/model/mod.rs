@@ -39,6 +39,14 @@ pub const U_PSEUDO_COUNT: f64 = 1.0;
 /// Pseudo-count per level for the EM estimates of m (a Dirichlet(1 + s) prior).
 pub const M_SMOOTHING: f64 = 0.5;
 
+/// A key's own fit is rejected when the best level of an attribute gets a weight below
+/// minus this many bits (agreement counting against a match).
+pub const LOCAL_MIN_TOP_WEIGHT: f64 = 1.0;
+
+/// Fewest candidate pairs a blocking key needs for its pairs to be scored with its own
+/// fit; keys with fewer pairs use the combined model.
+pub const MIN_LOCAL_PAIRS: u64 = 200;
+
 /// Parameters of one compared attribute.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct AttrModel {
@@ -76,6 +84,16 @@ pub struct BlockFit {
     pub converged: bool,
     /// Objective after each iteration.
     pub loglik_trace: Vec<f64>,
+    /// True when this key's pairs are scored with this key's own fit (`m`, `u`, `lambda`);
+    /// false when they use the combined model.
+    #[serde(default)]
+    pub local: bool,
+    /// m per attribute and level on this key's pairs (empty for excluded attributes).
+    #[serde(default)]
+    pub m: Vec<Vec<f64>>,
+    /// u per attribute and level among this key's non-matches (empty for excluded ones).
+    #[serde(default)]
+    pub u: Vec<Vec<f64>>,
 }
 
 /// A fitted model.
@@ -231,22 +249,49 @@ struct FreqAdjust<'a> {
     adjust: Vec<f64>,
 }
 
-/// Computes match weights, including value-frequency adjustments.
+/// One blocking key's own model: weights (rows of excluded attributes are zero) and prior.
+#[derive(Debug, Clone)]
+struct KeyModel {
+    weights: Vec<Vec<f64>>,
+    prior: f64,
+}
+
+/// Computes match weights and priors for scoring pairs.
 ///
-/// Agreement on value `v` is `m_exact · p_v` likely among matches and `p_v²` among
-/// non-matches (`p_v` = share of records with `v`), so its weight is `log2(m_exact / p_v)`
-/// instead of the average `log2(m_exact / u_exact)`: the adjustment is
-/// `log2(u_exact / p_v)`, clamped to ±[`FREQ_MAX_ADJUST`] bits so that a value seen once
-/// or a dominant value cannot decide a pair alone (Winkler 1989; METHODS.md §3).
+/// **Which model scores a pair.** Pairs produced by blocking key `b` agree on `b`'s
+/// attributes and disagree on every earlier key, and among them non-matches are not like
+/// random pairs: two records sharing a family name and a postcode are often members of
+/// one household, who also share the street, the city and sometimes the phone. Weights
+/// with u from random pairs count such agreements as strong, independent evidence and
+/// merge households. So when key `b`'s own EM fit is usable ([`BlockFit::local`]) its
+/// pairs are scored with that fit — m, u and λ estimated on exactly the pairs it scores,
+/// leaving out the key's own attributes — which is the Fellegi–Sunter posterior
+/// conditional on how the pair was found. Other pairs use the combined model (m combined
+/// over keys, u from random pairs, λ over all pairs).
+///
+/// **Value frequencies.** Agreement on value `v` is `m_exact · p_v` likely among matches
+/// and `p_v²` among non-matches (`p_v` = share of records with `v`), so its weight is
+/// `log2(m_exact / p_v)` instead of the average `log2(m_exact / u_exact)`: the adjustment
+/// is `log2(u_exact / p_v)` (u from random pairs), clamped to ±[`FREQ_MAX_ADJUST`] bits so
+/// that a value seen once or a dominant value cannot decide a pair alone (Winkler 1989;
+/// METHODS.md §3).
 #[derive(Debug, Clone)]
 pub struct Scorer<'a> {
     weights: Vec<Vec<f64>>,
+    prior: f64,
+    keys: Vec<Option<KeyModel>>,
     freq: Vec<Option<FreqAdjust<'a>>>,
 }
 
 impl<'a> Scorer<'a> {
-    /// Prepare weights for scoring pairs of `table`.
-    pub fn new(model: &Model, comparison: &Comparison, table: &'a RecordTable) -> Scorer<'a> {
+    /// Prepare scoring of `table`'s pairs; `keys` are the spec's blocking keys, matched to
+    /// the model's per-key fits by name.
+    pub fn new(
+        model: &Model,
+        comparison: &Comparison,
+        table: &'a RecordTable,
+        keys: &[crate::spec::BlockSpec],
+    ) -> Scorer<'a> {
         let freq = model
             .attribute
             .iter()
@@ -279,32 +324,95 @@ impl<'a> Scorer<'a> {
                 })
             })
             .collect();
+        let n_levels: Vec<usize> = model.attribute.iter().map(|a| a.levels.len()).collect();
+        let key_models = keys
+            .iter()
+            .map(|spec| {
+                let fit = model
+                    .block
+                    .iter()
+                    .find(|b| b.name == spec.name && b.local)?;
+                if fit.m.len() != n_levels.len() || fit.u.len() != n_levels.len() {
+                    return None;
+                }
+                let weights = (0..n_levels.len())
+                    .map(|k| {
+                        let (m, u) = (&fit.m[k], &fit.u[k]);
+                        if m.len() == n_levels[k] && u.len() == n_levels[k] {
+                            m.iter()
+                                .zip(u)
+                                .map(|(m, u)| (m.max(1e-12) / u.max(1e-12)).log2())
+                                .collect()
+                        } else {
+                            vec![0.0; n_levels[k]]
+                        }
+                    })
+                    .collect();
+                Some(KeyModel {
+                    weights,
+                    prior: crate::classify::prior_log2_odds(fit.lambda),
+                })
+            })
+            .collect();
         Scorer {
             weights: model.weights(),
+            prior: crate::classify::prior_log2_odds(model.lambda),
+            keys: key_models,
             freq,
         }
     }
 
-    /// Weight added by attribute `k` at level `code` for a pair whose first record is `a`.
+    fn table(&self, key: Option<usize>) -> (&[Vec<f64>], f64) {
+        match key.and_then(|k| self.keys.get(k)).and_then(|m| m.as_ref()) {
+            Some(m) => (&m.weights, m.prior),
+            None => (&self.weights, self.prior),
+        }
+    }
+
+    /// True when pairs of blocking key `key` are scored with that key's own fit.
+    pub fn is_local(&self, key: usize) -> bool {
+        self.keys.get(key).is_some_and(|m| m.is_some())
+    }
+
+    /// log2 prior odds of a match for pairs of blocking key `key` (`None`: any pair).
     #[inline]
-    pub fn contribution(&self, k: usize, code: u8, a: u32) -> f64 {
+    pub fn prior(&self, key: Option<usize>) -> f64 {
+        self.table(key).1
+    }
+
+    /// Weight added by attribute `k` at level `code` for a pair of blocking key `key`
+    /// whose first record is `a`.
+    #[inline]
+    pub fn contribution(&self, key: Option<usize>, k: usize, code: u8, a: u32) -> f64 {
         if code == MISSING_LEVEL {
             return 0.0;
         }
-        let mut w = self.weights[k][code as usize];
+        let row = &self.table(key).0[k];
+        let mut w = row[code as usize];
         if let Some(f) = &self.freq[k] {
-            if code == f.exact {
+            if code == f.exact && w != 0.0 {
                 w += f.adjust[f.ids[a as usize] as usize];
             }
         }
         w
     }
 
-    /// Match weight of a pair with comparison vector `gamma`, first record `a`.
+    /// Weight of attribute `k` at level `code` without value-frequency adjustment.
     #[inline]
-    pub fn weight(&self, gamma: &Gamma, a: u32) -> f64 {
+    pub fn contribution_plain(&self, key: Option<usize>, k: usize, code: u8) -> f64 {
+        if code == MISSING_LEVEL {
+            0.0
+        } else {
+            self.table(key).0[k][code as usize]
+        }
+    }
+
+    /// Match weight of a pair of blocking key `key` with comparison vector `gamma` and
+    /// first record `a`.
+    #[inline]
+    pub fn weight(&self, key: Option<usize>, gamma: &Gamma, a: u32) -> f64 {
         (0..self.weights.len())
-            .map(|k| self.contribution(k, gamma[k], a))
+            .map(|k| self.contribution(key, k, gamma[k], a))
             .sum()
     }
 }
@@ -424,6 +532,7 @@ pub fn fit(
         ..em::EmOptions::default()
     };
     let mut blocks = Vec::new();
+    let mut warnings = Vec::new();
     let mut m_sum = vec![vec![0.0; 0]; k_attrs];
     for (k, row) in m_sum.iter_mut().enumerate() {
         *row = vec![0.0; n_levels[k]];
@@ -450,6 +559,9 @@ pub fn fit(
             iterations: 0,
             converged: true,
             loglik_trace: Vec::new(),
+            local: false,
+            m: Vec::new(),
+            u: Vec::new(),
         };
         if pairs == 0 || !active.iter().any(|a| *a) {
             blocks.push(fit_info);
@@ -459,18 +571,52 @@ pub fn fit(
         init.u = u.clone();
         let f = em::fit(&key.counts, &init, &opts(active.clone()))?;
         let lambda_b = f.params.lambda;
+        // A latent class fit can split a key's pairs on something other than identity
+        // (e.g. moved vs not moved). Then agreeing on a name would count against a match;
+        // such a fit is not used, neither for scoring nor for the combined m.
+        let wrong: Vec<String> = (0..k_attrs)
+            .filter(|&k| active[k])
+            .filter(|&k| (f.params.m[k][0] / f.params.u[k][0]).log2() < -LOCAL_MIN_TOP_WEIGHT)
+            .map(|k| comparison.comparators[k].attr.name().to_string())
+            .collect();
+        let sane = wrong.is_empty();
+        if !sane {
+            warnings.push(format!(
+                "blocking key `{}`: its own EM fit makes the best level of {} count against a \
+                 match, so it separates the pairs on something other than identity; its pairs \
+                 are scored with the combined model",
+                key.name,
+                wrong
+                    .iter()
+                    .map(|w| format!("`{w}`"))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ));
+        }
         let matches = lambda_b * pairs as f64;
         expected += matches;
-        for k in (0..k_attrs).filter(|&k| active[k]) {
-            for (s, m) in m_sum[k].iter_mut().zip(&f.params.m[k]) {
-                *s += matches * m;
+        if sane {
+            for k in (0..k_attrs).filter(|&k| active[k]) {
+                for (s, m) in m_sum[k].iter_mut().zip(&f.params.m[k]) {
+                    *s += matches * m;
+                }
+                m_weight[k] += matches;
             }
-            m_weight[k] += matches;
         }
         fit_info.lambda = lambda_b;
         fit_info.iterations = f.iterations;
         fit_info.converged = f.converged;
         fit_info.loglik_trace = f.loglik_trace;
+        let keep = |rows: &[Vec<f64>]| -> Vec<Vec<f64>> {
+            rows.iter()
+                .zip(&active)
+                .map(|(r, a)| if *a { r.clone() } else { Vec::new() })
+                .collect()
+        };
+        fit_info.m = keep(&f.params.m);
+        fit_info.u = keep(&f.params.u);
+        fit_info.local =
+            sane && pairs >= MIN_LOCAL_PAIRS && lambda_b > 1e-6 && lambda_b < 1.0 - 1e-6;
         blocks.push(fit_info);
     }
     if candidate_pairs == 0 {
@@ -521,7 +667,7 @@ pub fn fit(
             }
         })
         .collect();
-    let warnings = level_warnings(&attribute);
+    warnings.extend(level_warnings(&attribute));
     Ok(Model {
         warnings,
         format: "kinlink-model".into(),
@@ -607,19 +753,28 @@ mod tests {
             )],
         };
         let exact: Gamma = [0; crate::compare::MAX_ATTRS];
-        let plain = Scorer::new(&model_with(false), &comparison, &table);
-        let freq = Scorer::new(&model_with(true), &comparison, &table);
+        let plain = Scorer::new(&model_with(false), &comparison, &table, &[]);
+        let freq = Scorer::new(&model_with(true), &comparison, &table, &[]);
         let (smith, rare) = (0u32, 60u32);
-        assert_eq!(plain.weight(&exact, smith), plain.weight(&exact, rare));
-        let (ws, wr) = (freq.weight(&exact, smith), freq.weight(&exact, rare));
+        assert_eq!(
+            plain.weight(None, &exact, smith),
+            plain.weight(None, &exact, rare)
+        );
+        let (ws, wr) = (
+            freq.weight(None, &exact, smith),
+            freq.weight(None, &exact, rare),
+        );
         assert!(wr > ws + 3.0, "rare {wr} vs common {ws}");
         // p(smith) = 0.6: adjustment log2(0.01 / 0.6) = -5.9 bits.
-        assert!((ws - plain.weight(&exact, smith) - (0.01f64 / 0.6).log2()).abs() < 1e-9);
+        assert!((ws - plain.weight(None, &exact, smith) - (0.01f64 / 0.6).log2()).abs() < 1e-9);
         // p(quillfeather) = 0.02: log2(0.01 / 0.02) = -1 bit.
-        assert!((wr - plain.weight(&exact, rare) + 1.0).abs() < 1e-9);
+        assert!((wr - plain.weight(None, &exact, rare) + 1.0).abs() < 1e-9);
         // Disagreement is not adjusted.
         let mut dis = exact;
         dis[0] = 1;
-        assert_eq!(freq.weight(&dis, rare), plain.weight(&dis, rare));
+        assert_eq!(
+            freq.weight(None, &dis, rare),
+            plain.weight(None, &dis, rare)
+        );
     }
 }

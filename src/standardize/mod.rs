@@ -327,8 +327,3 @@ pub fn standardize(raw: &StdRecord, conv: &Conventions, stats: &mut StdStats) ->
     }
     out
 }
-
-/// True when two folded given names are nicknames of each other (Bill = William).
-pub fn nickname_equivalent(a: &str, b: &str) -> bool {
-    a == b
-}

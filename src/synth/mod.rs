@@ -30,6 +30,8 @@ pub mod places;
 mod render;
 mod write;
 
+use std::collections::HashMap;
+
 use rayon::prelude::*;
 
 use crate::util::{stable_hash, Rng};
@@ -652,21 +654,36 @@ fn pick_sources(rng: &mut Rng, cfg: &NoiseConfig, home: Source) -> Vec<Source> {
     } else {
         1
     };
-    let others: Vec<Source> = Source::ALL.iter().copied().filter(|&s| s != home).collect();
+    // The two other sources, the more likely second source first: North-American and
+    // British customers shop online more than they call; continental customers are
+    // split evenly between the CRM and the support desk.
+    let others: [Source; 2] = match home {
+        Source::Crm => [Source::Webshop, Source::Support],
+        Source::Support => [Source::Webshop, Source::Crm],
+        Source::Webshop => [Source::Crm, Source::Support],
+    };
+    let first_weight = if home == Source::Webshop { 0.5 } else { 0.6 };
+    let other = |rng: &mut Rng| {
+        if rng.chance(first_weight) {
+            others[0]
+        } else {
+            others[1]
+        }
+    };
     match k {
         3 => Source::ALL.to_vec(),
         2 => {
-            if rng.chance(0.85) {
-                vec![home, *rng.pick(&others)]
+            if rng.chance(0.97) {
+                vec![home, other(rng)]
             } else {
-                others
+                others.to_vec()
             }
         }
         _ => {
-            if rng.chance(0.8) {
+            if rng.chance(0.97) {
                 vec![home]
             } else {
-                vec![*rng.pick(&others)]
+                vec![other(rng)]
             }
         }
     }
@@ -690,21 +707,105 @@ fn random_time(rng: &mut Rng, from: noise::Date, to: noise::Date) -> i64 {
     day * 86_400 + hour * 3600 + rng.below(3600) as i64
 }
 
-/// Generate chunk `chunk` (customers `start .. start + count`).
-fn generate_chunk(
-    cfg: &SynthConfig,
-    chunk: usize,
-    start: usize,
-    count: usize,
-    keep: bool,
-) -> Chunk {
+/// The customers of chunk `chunk` (entities `start .. start + count`) and the chunk's
+/// random generator, ready to render their records.
+fn make_people(cfg: &SynthConfig, chunk: usize, start: usize, count: usize) -> (Vec<Person>, Rng) {
     let mut rng = Rng::new(chunk_seed(cfg.seed, chunk));
-    let noise_cfg = &cfg.noise;
-    let mut maker = PeopleMaker::new(noise_cfg, start as u32, count);
+    let mut maker = PeopleMaker::new(&cfg.noise, start as u32, count);
     while maker.people.len() < count {
         maker.add_household(&mut rng, count);
     }
-    let people = maker.people;
+    (maker.people, rng)
+}
+
+/// The e-mail addresses of one customer, for the uniqueness pass.
+struct EmailInfo {
+    entity: u32,
+    email: String,
+    new_email: Option<String>,
+    shares_email_of: Option<u32>,
+}
+
+/// Replacement e-mail addresses of one customer.
+#[derive(Debug, Clone, Default)]
+struct EmailFix {
+    email: Option<String>,
+    new_email: Option<String>,
+}
+
+/// `address` made unique among `taken` by digits before the `@` (digits from a stream
+/// seeded by the run seed and the entity, so the result does not depend on threads).
+fn disambiguate(
+    seed: u64,
+    entity: u32,
+    salt: u8,
+    address: &str,
+    taken: &HashMap<String, u32>,
+) -> String {
+    let (local, domain) = address.split_once('@').unwrap_or((address, "mail.example"));
+    let mut bytes = Vec::with_capacity(24);
+    bytes.extend_from_slice(b"email");
+    bytes.extend_from_slice(&seed.to_le_bytes());
+    bytes.extend_from_slice(&entity.to_le_bytes());
+    bytes.push(salt);
+    let mut rng = Rng::new(stable_hash(&bytes));
+    let mut width = 2;
+    loop {
+        let n = rng.below(10u64.pow(width));
+        let candidate = format!("{local}{n:0w$}@{domain}", w = width as usize);
+        if !taken.contains_key(&candidate) {
+            return candidate;
+        }
+        width = (width + 1).min(9);
+    }
+}
+
+/// Make every customer's e-mail addresses unique across customers, except addresses a
+/// household shares on purpose. Real providers do not hand one address to two people,
+/// but common names made from the same pattern collide in large populations. The first
+/// customer (in entity order) keeps the address; later ones get digits added.
+fn unique_emails(seed: u64, infos: Vec<EmailInfo>) -> HashMap<u32, EmailFix> {
+    let mut taken: HashMap<String, u32> = HashMap::with_capacity(infos.len() * 11 / 10);
+    let mut fixes: HashMap<u32, EmailFix> = HashMap::new();
+    for info in infos {
+        if let Some(head) = info.shares_email_of {
+            // Same address as the head of the household, after the head's fix if any.
+            if let Some(e) = fixes.get(&head).and_then(|f| f.email.clone()) {
+                fixes.entry(info.entity).or_default().email = Some(e);
+            }
+        } else {
+            let email = if taken.contains_key(&info.email) {
+                let e = disambiguate(seed, info.entity, 0, &info.email, &taken);
+                fixes.entry(info.entity).or_default().email = Some(e.clone());
+                e
+            } else {
+                info.email
+            };
+            taken.insert(email, info.entity);
+        }
+        if let Some(new_email) = info.new_email {
+            let new_email = if taken.contains_key(&new_email) {
+                let e = disambiguate(seed, info.entity, 1, &new_email, &taken);
+                fixes.entry(info.entity).or_default().new_email = Some(e.clone());
+                e
+            } else {
+                new_email
+            };
+            taken.insert(new_email, info.entity);
+        }
+    }
+    fixes
+}
+
+/// Render the records of one chunk's customers, continuing the chunk's random stream.
+fn render_chunk(
+    cfg: &SynthConfig,
+    chunk: usize,
+    people: Vec<Person>,
+    mut rng: Rng,
+    keep: bool,
+) -> Chunk {
+    let noise_cfg = &cfg.noise;
     let mut rows: [Vec<Row>; 3] = Default::default();
     let mut stats = NoiseStats::default();
     let mut seq = (chunk as u64) << 32;
@@ -793,7 +894,6 @@ fn generate_chunk(
             seq += 1;
         }
     }
-    // Duplicates are counted in `render`; count the chances here.
     Chunk {
         rows,
         stats,
@@ -802,15 +902,47 @@ fn generate_chunk(
 }
 
 /// Generate the chunks of `cfg` in parallel (order of the result = chunk order).
+///
+/// Three passes: make the customers of every chunk and collect their e-mail addresses;
+/// make the addresses unique (one sequential pass in entity order); make the customers
+/// again (same random streams, so the same people), apply the e-mail fixes and render.
+/// Making people twice costs less than keeping a million of them in memory.
 fn generate_chunks(cfg: &SynthConfig, keep: bool) -> Vec<Chunk> {
     let customers = cfg.customers.min(MAX_CUSTOMERS);
     let chunks = customers.div_ceil(CHUNK);
+    let span = |c: usize| (c * CHUNK, CHUNK.min(customers - c * CHUNK));
+    let infos: Vec<EmailInfo> = (0..chunks)
+        .into_par_iter()
+        .flat_map_iter(|c| {
+            let (start, count) = span(c);
+            make_people(cfg, c, start, count)
+                .0
+                .into_iter()
+                .map(|p| EmailInfo {
+                    entity: p.entity,
+                    email: p.email,
+                    new_email: p.new_email,
+                    shares_email_of: p.shares_email_of,
+                })
+        })
+        .collect();
+    let fixes = unique_emails(cfg.seed, infos);
     (0..chunks)
         .into_par_iter()
         .map(|c| {
-            let start = c * CHUNK;
-            let count = CHUNK.min(customers - start);
-            generate_chunk(cfg, c, start, count, keep)
+            let (start, count) = span(c);
+            let (mut people, rng) = make_people(cfg, c, start, count);
+            for p in &mut people {
+                if let Some(fix) = fixes.get(&p.entity) {
+                    if let Some(e) = &fix.email {
+                        p.email = e.clone();
+                    }
+                    if let Some(e) = &fix.new_email {
+                        p.new_email = Some(e.clone());
+                    }
+                }
+            }
+            render_chunk(cfg, c, people, rng, keep)
         })
         .collect()
 }
@@ -868,3 +1000,6 @@ pub fn generate_with_people(cfg: &SynthConfig) -> (Dataset, Vec<Person>) {
     }
     (assemble(cfg, chunks), people)
 }
+
+#[cfg(test)]
+mod tests;

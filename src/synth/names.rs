@@ -7,6 +7,9 @@
 //! record: a name is combined at random with an invented address, birth date, phone
 //! and e-mail.
 
+use std::collections::HashMap;
+use std::sync::OnceLock;
+
 use crate::util::Rng;
 
 /// Sex of a generated person (chooses given names and courtesy titles).
@@ -262,7 +265,7 @@ const SPANISH: Pools = Pools {
     ],
     courtesy_female: &["Sra.", "Sra", "Dña."],
     courtesy_male: &["Sr.", "Sr", "D."],
-    academic: &["Dr.", "Dra.", "Dr"],
+    academic: &["Dr.", "Dr"],
 };
 
 #[rustfmt::skip]
@@ -498,7 +501,11 @@ pub fn family_name(rng: &mut Rng, culture: Culture) -> String {
         let p = pools(culture);
         if rng.chance(0.3) {
             let a = rng.pick(p.rare_first);
-            let b = rng.pick(p.rare_second);
+            let mut b = rng.pick(p.rare_second);
+            // No stutters such as "Woodwood".
+            while a.to_lowercase().ends_with(&b.to_lowercase()) {
+                b = rng.pick(p.rare_second);
+            }
             format!("{a}{b}")
         } else {
             p.family[skewed_index(rng, p.family.len())].to_string()
@@ -532,10 +539,11 @@ pub fn courtesy_title(rng: &mut Rng, culture: Culture, sex: Sex) -> &'static str
 
 /// The informal forms of a given name (empty when none is known).
 pub fn nicknames(given: &str) -> &'static [&'static str] {
-    NICKNAMES
-        .iter()
-        .find(|(formal, _)| *formal == given)
-        .map(|(_, nicks)| *nicks)
+    static INDEX: OnceLock<HashMap<&'static str, &'static [&'static str]>> = OnceLock::new();
+    INDEX
+        .get_or_init(|| NICKNAMES.iter().copied().collect())
+        .get(given)
+        .copied()
         .unwrap_or(&[])
 }
 

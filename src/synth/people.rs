@@ -65,6 +65,8 @@ pub struct Person {
     pub email: String,
     /// E-mail address used by later records, if it changed.
     pub new_email: Option<String>,
+    /// Entity whose e-mail address this person shares (a household address), if any.
+    pub shares_email_of: Option<u32>,
 }
 
 impl Person {
@@ -288,7 +290,7 @@ impl<'a> PeopleMaker<'a> {
         birth: Date,
         address: Address,
         landline: Option<&Phone>,
-        shared_email: Option<&str>,
+        shared_email: Option<(u32, &str)>,
     ) {
         let title =
             (birth.y < 1990 && rng.chance(0.04)).then(|| names::academic_title(rng, culture));
@@ -309,7 +311,7 @@ impl<'a> PeopleMaker<'a> {
             None => family.clone(),
         };
         let email = match shared_email {
-            Some(e) => e.to_string(),
+            Some((_, e)) => e.to_string(),
             None => make_email(rng, country, culture, given, &full_family, birth),
         };
         let new_address = rng.chance(self.cfg.moved).then(|| address.moved(rng));
@@ -337,6 +339,7 @@ impl<'a> PeopleMaker<'a> {
             phone,
             email,
             new_email,
+            shares_email_of: shared_email.map(|(e, _)| e),
         });
     }
 
@@ -416,6 +419,7 @@ impl<'a> PeopleMaker<'a> {
             None,
         );
         let head_email = self.people[head_index].email.clone();
+        let head_entity = self.people[head_index].entity;
         let mut taken: Vec<&'static str> = vec![head_given];
         let mut previous_birth = head_birth;
         for k in 1..size {
@@ -456,7 +460,9 @@ impl<'a> PeopleMaker<'a> {
                 distinct_given(rng, culture, sex, &taken)
             };
             taken.push(given);
-            let shared = rng.chance(0.05).then_some(head_email.as_str());
+            let shared = rng
+                .chance(0.05)
+                .then_some((head_entity, head_email.as_str()));
             self.finish(
                 rng,
                 relation,

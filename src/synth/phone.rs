@@ -3,9 +3,10 @@
 //! In: a country (and for the US a state). Out: a [`Phone`] (area code and subscriber
 //! digits) and its text in one of several national or international styles. Numbers
 //! come from ranges reserved for fiction where such ranges exist and the reference
-//! metadata accepts them: NANP 555-0100..555-0199 with real area codes, the UK Ofcom
-//! drama ranges (020 7946 0xxx, 0113 496 0xxx, ...), the French ARCEP fiction blocks
-//! (01 99 00 xx xx, ...). Elsewhere they are random, valid-looking numbers.
+//! metadata accepts them: US landlines 555-0100..555-0199 with real area codes (US
+//! mobiles use other lines of the 555 exchange), UK landlines in the Ofcom drama ranges
+//! (020 7946 0xxx, 0113 496 0xxx, ...), French landlines in the ARCEP fiction blocks
+//! (01 99 00 xx xx, ...). Other numbers are random, valid-looking numbers.
 
 use super::places::{Country, STATES};
 use crate::util::Rng;
@@ -109,15 +110,47 @@ impl Phone {
             Country::Us => {
                 let st = &STATES[state.unwrap_or_else(|| rng.below(STATES.len() as u64) as usize)];
                 let area = rng.pick(st.area_codes).to_string();
-                (area, format!("55501{}", digits(rng, 2)))
+                // Landlines in the block reserved for fiction (555-0100..0199); mobiles on
+                // other 555 lines, so that large populations do not all share 100 numbers
+                // per area code (555-1212, directory assistance, is left out).
+                let line = if mobile {
+                    loop {
+                        let l = 200 + rng.below(9800);
+                        if l != 1212 {
+                            break l;
+                        }
+                    }
+                } else {
+                    100 + rng.below(100)
+                };
+                (area, format!("555{line:04}"))
             }
             Country::Gb => {
-                let (area, pre) = *rng.pick(GB_DRAMA);
-                (area.to_string(), format!("{pre}{}", digits(rng, 3)))
+                if mobile {
+                    // No valid fictional mobile range exists in the metadata (07700 900xxx
+                    // is rejected): a random, valid-looking mobile number.
+                    let pre = *rng.pick(&["74", "75", "77", "78", "79"]);
+                    (format!("{pre}{}", digits(rng, 2)), digits(rng, 6))
+                } else {
+                    let (area, pre) = *rng.pick(GB_DRAMA);
+                    (area.to_string(), format!("{pre}{}", digits(rng, 3)))
+                }
             }
             Country::Fr => {
-                let (area, pre) = *rng.pick(FR_FICTION);
-                (area.to_string(), format!("{pre}{}", digits(rng, 4)))
+                if mobile {
+                    if rng.chance(0.7) {
+                        let second = *rng.pick(&["1", "2", "4", "5", "6", "7", "8"]);
+                        ("6".to_string(), format!("{second}{}", digits(rng, 7)))
+                    } else {
+                        (
+                            "7".to_string(),
+                            format!("{}{}", 3 + rng.below(6), digits(rng, 7)),
+                        )
+                    }
+                } else {
+                    let (area, pre) = *rng.pick(FR_FICTION);
+                    (area.to_string(), format!("{pre}{}", digits(rng, 4)))
+                }
             }
             Country::Ie => {
                 if mobile {
@@ -248,13 +281,11 @@ impl Phone {
         let r = &self.rest;
         let groups: &[usize] = match self.country {
             Country::Us => &[3, 4],
-            Country::Gb | Country::Ie => {
-                if r.len() == 8 {
-                    &[4, 4]
-                } else {
-                    &[3, 4]
-                }
-            }
+            Country::Gb | Country::Ie => match r.len() {
+                8 => &[4, 4],
+                6 => &[6],
+                _ => &[3, 4],
+            },
             Country::Ch => &[3, 2, 2],
             Country::Fr => &[2, 2, 2, 2],
             Country::Nl => {

@@ -87,15 +87,15 @@ impl Country {
     /// Share of customers living in the country (sums to 1 over [`Country::ALL`]).
     pub fn share(self) -> f64 {
         match self {
-            Country::Us => 0.34,
-            Country::Gb => 0.14,
-            Country::Ie => 0.04,
-            Country::De => 0.17,
+            Country::Us => 0.30,
+            Country::Gb => 0.24,
+            Country::Ie => 0.06,
+            Country::De => 0.15,
             Country::At => 0.04,
             Country::Ch => 0.04,
-            Country::Fr => 0.08,
-            Country::Es => 0.08,
-            Country::Nl => 0.07,
+            Country::Fr => 0.06,
+            Country::Es => 0.06,
+            Country::Nl => 0.05,
         }
     }
 

@@ -332,8 +332,11 @@ pub fn render(
                         PhoneStyle::International,
                         PhoneStyle::InternationalCompact,
                         PhoneStyle::InternationalTrunk,
+                        PhoneStyle::DoubleZero,
                     ];
-                    *dice.rng.pick(options)
+                    // "00" is how Europeans dial abroad; Americans do not write it.
+                    let n = options.len() - usize::from(p.country == Country::Us);
+                    *dice.rng.pick(&options[..n])
                 } else {
                     PhoneStyle::National
                 }
@@ -368,17 +371,17 @@ pub fn render(
     }
     if email_case {
         // "John.Smith@Gmail.com": capitals as typed on a phone.
-        email = email
-            .split('.')
-            .map(|part| {
-                let mut c = part.chars();
-                match c.next() {
-                    Some(f) => f.to_uppercase().chain(c).collect::<String>(),
-                    None => String::new(),
-                }
-            })
-            .collect::<Vec<_>>()
-            .join(".");
+        let capital = |part: &str| {
+            let mut c = part.chars();
+            match c.next() {
+                Some(f) => f.to_uppercase().chain(c).collect::<String>(),
+                None => String::new(),
+            }
+        };
+        if let Some((local, domain)) = email.split_once('@') {
+            let local: Vec<String> = local.split('.').map(capital).collect();
+            email = format!("{}@{}", local.join("."), capital(domain));
+        }
     }
     // The web-shop login is the e-mail address: never missing there.
     if source != Source::Webshop {

@@ -189,12 +189,10 @@ fn write_source(data: &Dataset, source: Source, path: &Path) -> crate::Result<()
     let file = File::create(path).map_err(|e| Error::io(path, e))?;
     let mut w = csv::Writer::from_writer(BufWriter::with_capacity(1 << 20, file));
     w.write_record(source.header()).map_err(csv_err(path))?;
-    let mut buf: Vec<String> = Vec::with_capacity(12);
     for r in data.table(source).records() {
-        buf.clear();
-        buf.push(r.id());
-        buf.extend(r.values().map(str::to_string));
-        w.write_record(&buf).map_err(csv_err(path))?;
+        let id = r.id();
+        w.write_record(std::iter::once(id.as_str()).chain(r.values()))
+            .map_err(csv_err(path))?;
     }
     let mut inner = w
         .into_inner()
