@@ -470,41 +470,62 @@ fn count_patterns(
     let n_levels = comparison.n_levels();
     let n_keys = blocking.keys.len();
     let k = comparison.len();
-    let parts: Vec<Result<Vec<PatternCounts>>> = chunks(tasks)
+    // Very many pairs: count a deterministic sample of the tasks (by hash), enough for
+    // EM on pattern counts; scoring still sees every pair.
+    let raw_total: u64 = blocking.keys.iter().map(|k| k.raw_pairs()).sum();
+    let keep_one_in = (raw_total / COUNT_SAMPLE_PAIRS).max(1);
+    type Pair = (Vec<PatternCounts>, Vec<PatternCounts>);
+    let fresh = || -> Pair {
+        (
+            (0..n_keys)
+                .map(|_| PatternCounts::new(n_levels.clone()))
+                .collect(),
+            (0..n_keys)
+                .map(|_| PatternCounts::new(n_levels.clone()))
+                .collect(),
+        )
+    };
+    let parts: Vec<Result<Pair>> = chunks(tasks)
         .into_par_iter()
         .map(|chunk| {
-            let mut counts: Vec<PatternCounts> = (0..n_keys)
-                .map(|_| PatternCounts::new(n_levels.clone()))
-                .collect();
+            let (mut new_counts, mut all_counts) = fresh();
             let mut scratch = comparison.scratch();
             for task in chunk {
-                let c = &mut counts[task.key];
+                progress.inc(1);
+                if keep_one_in > 1 && task_hash(task) % keep_one_in != 0 {
+                    continue;
+                }
+                let (cn, ca) = (&mut new_counts[task.key], &mut all_counts[task.key]);
                 let mut err = Ok(());
-                blocking.for_each_pair(task, |a, b| {
+                blocking.for_each_pair_all(task, |a, b, new| {
                     let g = comparison.gamma(table, a, b, &mut scratch);
-                    if let Err(e) = c.add(&g[..k], 1) {
+                    let r =
+                        ca.add(&g[..k], 1)
+                            .and_then(|_| if new { cn.add(&g[..k], 1) } else { Ok(()) });
+                    if let Err(e) = r {
                         err = Err(e);
                     }
                 });
                 err?;
-                progress.inc(1);
             }
-            Ok(counts)
+            Ok((new_counts, all_counts))
         })
         .collect();
-    let mut total: Vec<PatternCounts> = (0..n_keys)
-        .map(|_| PatternCounts::new(n_levels.clone()))
-        .collect();
+    let (mut total_new, mut total_all) = fresh();
     for part in parts {
-        for (t, p) in total.iter_mut().zip(part?) {
+        let (n, a) = part?;
+        for (t, p) in total_new.iter_mut().zip(n) {
+            t.merge(p)?;
+        }
+        for (t, p) in total_all.iter_mut().zip(a) {
             t.merge(p)?;
         }
     }
     Ok(spec
         .blocks
         .iter()
-        .zip(total)
-        .map(|(b, counts)| {
+        .zip(total_new.into_iter().zip(total_all))
+        .map(|(b, (counts, all_counts))| {
             let key_attrs: Vec<_> = b.keys.iter().map(|p| p.attr).collect();
             KeyCounts {
                 name: b.name.clone(),
@@ -514,9 +535,21 @@ fn count_patterns(
                     .map(|c| key_attrs.contains(&c.attr))
                     .collect(),
                 counts,
+                all_counts,
+                scale: keep_one_in as f64,
             }
         })
         .collect())
+}
+
+/// About this many pairs are compared for the EM counts; above it, tasks are sampled.
+pub const COUNT_SAMPLE_PAIRS: u64 = 4_000_000;
+
+fn task_hash(task: &Task) -> u64 {
+    let mut z = (task.key as u64) << 48 ^ (task.block as u64) << 16 ^ task.start as u64;
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
 }
 
 /// A pair kept after scoring (match or review).

@@ -192,6 +192,19 @@ impl Blocking {
         tasks
     }
 
+    /// Call `f(a, b, new)` for every pair of a task, with `new` false for pairs an
+    /// earlier key already produced.
+    #[inline]
+    pub fn for_each_pair_all(&self, task: &Task, mut f: impl FnMut(u32, u32, bool)) {
+        let members = self.keys[task.key].block(task.block as usize);
+        for i in task.start as usize..task.end as usize {
+            let a = members[i];
+            for &b in &members[i + 1..] {
+                f(a, b, !self.seen_before(task.key, a, b));
+            }
+        }
+    }
+
     /// Call `f(a, b)` for every new pair of a task (pairs of earlier keys are skipped).
     #[inline]
     pub fn for_each_pair(&self, task: &Task, mut f: impl FnMut(u32, u32)) {

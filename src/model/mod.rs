@@ -43,6 +43,10 @@ pub const M_SMOOTHING: f64 = 0.5;
 /// minus this many bits (agreement counting against a match).
 pub const LOCAL_MIN_TOP_WEIGHT: f64 = 1.0;
 
+/// Strength (in pseudo-pairs) of the priors that keep a key's own fit near the combined
+/// model (m) and the random pairs (u).
+pub const PRIOR_PAIRS: f64 = 200.0;
+
 /// Fewest candidate pairs a blocking key needs for its pairs to be scored with its own
 /// fit; keys with fewer pairs use the combined model.
 pub const MIN_LOCAL_PAIRS: u64 = 200;
@@ -503,36 +507,99 @@ pub fn estimate_u(
     (u, drawn)
 }
 
-/// EM with m held at `m` and u, λ estimated (EM with the classes' roles swapped, using
-/// the fixed-u option): returns λ, u, iterations and the objective trace.
+/// EM for λ, u and some of m on the pairs a key scores, started at the combined model
+/// and regularized towards it (Dirichlet priors centred on the combined m and on the
+/// random-pair u, each worth [`PRIOR_PAIRS`] pseudo-pairs). u is free: the key learns
+/// what its non-matches share (households share an address and often a phone). m is
+/// held at the combined estimate except for the attributes of earlier keys (`free_m`):
+/// the key's matches were selected by failing those keys, so there they differ from
+/// matches in general. Holding the rest of m keeps the match class on identity. `None`
+/// when there is nothing to fit.
 fn conditional_fit(
     counts: &em::PatternCounts,
     m: &[Vec<f64>],
-    u0: &[Vec<f64>],
+    u_random: &[Vec<f64>],
     lambda0: f64,
+    free_m: &[bool],
     opts: &em::EmOptions,
 ) -> Option<ConditionalFit> {
-    let swapped = em::Params {
-        lambda: (1.0 - lambda0).clamp(0.01, 0.99),
-        m: u0.to_vec(),
-        u: m.to_vec(),
-    };
-    let opts = em::EmOptions {
-        fix_u: true,
-        ..opts.clone()
-    };
-    let f = em::fit(counts, &swapped, &opts).ok()?;
+    let patterns: Vec<(Vec<u8>, f64)> = counts.iter().map(|(c, n)| (c, n as f64)).collect();
+    let total: f64 = patterns.iter().map(|p| p.1).sum();
+    if total <= 0.0 {
+        return None;
+    }
+    let active = opts.active.clone().unwrap_or_else(|| vec![true; m.len()]);
+    let m_prior = m;
+    let mut m = m.to_vec();
+    let mut lambda = lambda0.clamp(0.05, 0.95);
+    let mut u = u_random.to_vec();
+    let mut trace = Vec::new();
+    let mut iterations = 0;
+    for _ in 0..opts.max_iterations.max(1) {
+        iterations += 1;
+        let ln = |t: &[Vec<f64>]| -> Vec<Vec<f64>> {
+            t.iter()
+                .map(|r| r.iter().map(|x| x.max(1e-12).ln()).collect())
+                .collect()
+        };
+        let (ln_m, ln_u) = (ln(&m), ln(&u));
+        let mut su: Vec<Vec<f64>> = u.iter().map(|r| vec![0.0; r.len()]).collect();
+        let mut sm_levels: Vec<Vec<f64>> = m.iter().map(|r| vec![0.0; r.len()]).collect();
+        let (mut sm, mut ll) = (0.0, 0.0);
+        for (codes, n) in &patterns {
+            let (mut lm, mut lu) = (lambda.ln(), (1.0 - lambda).ln());
+            for (k, &c) in codes.iter().enumerate() {
+                if active[k] && c != MISSING_LEVEL {
+                    lm += ln_m[k][c as usize];
+                    lu += ln_u[k][c as usize];
+                }
+            }
+            let hi = lm.max(lu);
+            let norm = hi + ((lm - hi).exp() + (lu - hi).exp()).ln();
+            ll += n * norm;
+            let p = (lm - norm).exp();
+            sm += n * p;
+            for (k, &c) in codes.iter().enumerate() {
+                if active[k] && c != MISSING_LEVEL {
+                    su[k][c as usize] += n * (1.0 - p);
+                    sm_levels[k][c as usize] += n * p;
+                }
+            }
+        }
+        trace.push(ll);
+        let new_lambda = (sm / total).clamp(1e-9, 1.0 - 1e-9);
+        let mut change = (new_lambda - lambda).abs();
+        for k in (0..su.len()).filter(|&k| active[k]) {
+            let (seen_u, seen_m): (f64, f64) = (su[k].iter().sum(), sm_levels[k].iter().sum());
+            for l in 0..su[k].len() {
+                let v = (su[k][l] + PRIOR_PAIRS * u_random[k][l]) / (seen_u + PRIOR_PAIRS);
+                let w = (sm_levels[k][l] + PRIOR_PAIRS * m_prior[k][l]) / (seen_m + PRIOR_PAIRS);
+                change = change.max((v - u[k][l]).abs());
+                u[k][l] = v;
+                if free_m[k] {
+                    change = change.max((w - m[k][l]).abs());
+                    m[k][l] = w;
+                }
+            }
+        }
+        lambda = new_lambda;
+        if change < 1e-7 {
+            break;
+        }
+    }
     Some(ConditionalFit {
-        lambda: 1.0 - f.params.lambda,
-        u: f.params.m,
-        iterations: f.iterations,
-        trace: f.loglik_trace,
+        lambda,
+        m,
+        u,
+        iterations,
+        trace,
     })
 }
 
 /// Result of [`conditional_fit`].
 struct ConditionalFit {
     lambda: f64,
+    m: Vec<Vec<f64>>,
     u: Vec<Vec<f64>>,
     iterations: usize,
     trace: Vec<f64>,
@@ -545,11 +612,24 @@ pub struct KeyCounts {
     pub name: String,
     /// Per compared attribute, true when the key is built from it.
     pub excluded: Vec<bool>,
-    /// Comparison vector counts of the key's pairs.
+    /// Comparison vector counts of the pairs this key produces first (the pairs it
+    /// scores).
     pub counts: em::PatternCounts,
+    /// Comparison vector counts of all pairs inside this key's blocks, including pairs
+    /// an earlier key produced: the population for estimating m without selection by
+    /// the earlier keys.
+    pub all_counts: em::PatternCounts,
+    /// Pairs each counted pair stands for (1 unless the counts are a sample of tasks).
+    pub scale: f64,
 }
 
 /// Fit the model from per-key comparison vector counts and random-pair u.
+///
+/// Stage 1 estimates m per key on all pairs inside the key's blocks, leaving out the
+/// key's own attributes (which always agree there), and combines the estimates weighted
+/// by each key's expected matches. Stage 2 holds m at the combined estimate and fits λ
+/// and u on the pairs each key produces first (the pairs it scores): that gives the
+/// expected matches (hence λ over all pairs) and the per-key scoring fits.
 pub fn fit(
     spec: &Spec,
     comparison: &Comparison,
@@ -568,21 +648,18 @@ pub fn fit(
     };
     let mut blocks = Vec::new();
     let mut warnings = Vec::new();
-    let mut m_sum = vec![vec![0.0; 0]; k_attrs];
-    for (k, row) in m_sum.iter_mut().enumerate() {
-        *row = vec![0.0; n_levels[k]];
-    }
+    let mut m_sum: Vec<Vec<f64>> = n_levels.iter().map(|&l| vec![0.0; l]).collect();
     let mut m_weight = vec![0.0f64; k_attrs];
-    let mut expected = 0.0;
-    let mut candidate_pairs = 0;
+    let mut candidate_pairs = 0.0;
+    let mut stage1_lambda = Vec::new();
     for key in keys {
-        let pairs = key.counts.total();
+        let pairs = key.counts.total() as f64 * key.scale;
         candidate_pairs += pairs;
         let active: Vec<bool> = key.excluded.iter().map(|e| !e).collect();
         let mut fit_info = BlockFit {
             name: key.name.clone(),
-            pairs,
-            patterns: key.counts.len() as u64,
+            pairs: pairs.round() as u64,
+            patterns: key.all_counts.len() as u64,
             lambda: 0.0,
             excluded: comparison
                 .comparators
@@ -598,28 +675,35 @@ pub fn fit(
             m: Vec::new(),
             u: Vec::new(),
         };
-        if pairs == 0 || !active.iter().any(|a| *a) {
+        stage1_lambda.push(None);
+        if key.all_counts.total() == 0 || !active.iter().any(|a| *a) {
             blocks.push(fit_info);
             continue;
         }
         let mut init = em::default_init(&n_levels, 0.1);
         init.u = u.clone();
-        let f = em::fit(&key.counts, &init, &opts(active.clone()))?;
-        let lambda_b = f.params.lambda;
+        let f = em::fit(&key.all_counts, &init, &opts(active.clone()))?;
         // A latent class fit can split a key's pairs on something other than identity
         // (e.g. moved vs not moved). Then agreeing on a name would count against a match;
-        // such a fit is not used, neither for scoring nor for the combined m.
+        // such a fit is not used for the combined m.
         let wrong: Vec<String> = (0..k_attrs)
             .filter(|&k| active[k])
             .filter(|&k| (f.params.m[k][0] / f.params.u[k][0]).log2() < -LOCAL_MIN_TOP_WEIGHT)
             .map(|k| comparison.comparators[k].attr.name().to_string())
             .collect();
-        let sane = wrong.is_empty();
-        if !sane {
+        if wrong.is_empty() {
+            let matches = f.params.lambda * key.all_counts.total() as f64 * key.scale;
+            for k in (0..k_attrs).filter(|&k| active[k]) {
+                for (s, m) in m_sum[k].iter_mut().zip(&f.params.m[k]) {
+                    *s += matches * m;
+                }
+                m_weight[k] += matches;
+            }
+        } else {
             warnings.push(format!(
-                "blocking key `{}`: its own EM fit makes the best level of {} count against a \
-                 match, so it separates the pairs on something other than identity; its pairs \
-                 are scored with the combined model",
+                "blocking key `{}`: its EM fit makes the best level of {} count against a \
+                 match, so it separates the pairs on something other than identity; it is \
+                 left out of the combined m",
                 key.name,
                 wrong
                     .iter()
@@ -628,40 +712,22 @@ pub fn fit(
                     .join(", ")
             ));
         }
-        let matches = lambda_b * pairs as f64;
-        expected += matches;
-        if sane {
-            for k in (0..k_attrs).filter(|&k| active[k]) {
-                for (s, m) in m_sum[k].iter_mut().zip(&f.params.m[k]) {
-                    *s += matches * m;
-                }
-                m_weight[k] += matches;
-            }
+        if let Some(last) = stage1_lambda.last_mut() {
+            *last = Some(f.params.lambda);
         }
-        fit_info.lambda = lambda_b;
         fit_info.iterations = f.iterations;
         fit_info.converged = f.converged;
         fit_info.loglik_trace = f.loglik_trace;
-        let keep = |rows: &[Vec<f64>]| -> Vec<Vec<f64>> {
-            rows.iter()
-                .zip(&active)
-                .map(|(r, a)| if *a { r.clone() } else { Vec::new() })
-                .collect()
-        };
-        fit_info.m = keep(&f.params.m);
-        fit_info.u = keep(&f.params.u);
-        fit_info.local =
-            sane && pairs >= MIN_LOCAL_PAIRS && lambda_b > 1e-6 && lambda_b < 1.0 - 1e-6;
         blocks.push(fit_info);
     }
-    if candidate_pairs == 0 {
+    if candidate_pairs <= 0.0 {
         return Err(Error::Usage(
             "the blocking keys produced no candidate pairs, so there is nothing to fit; check \
              that the key attributes are mapped and filled"
                 .into(),
         ));
     }
-    // Attributes left out of every key's fit: fit them on all candidate pairs.
+    // Attributes left out of every usable fit: fit them on all candidate pairs.
     let missing: Vec<usize> = (0..k_attrs).filter(|&k| m_weight[k] <= 0.0).collect();
     if !missing.is_empty() {
         let mut all = em::PatternCounts::new(n_levels.clone());
@@ -675,9 +741,60 @@ pub fn fit(
             m_sum[k] = f.params.m[k].clone();
             m_weight[k] = 1.0;
         }
-        if expected <= 0.0 {
-            expected = f.params.lambda * all.total() as f64;
+    }
+    let m_final: Vec<Vec<f64>> = (0..k_attrs)
+        .map(|k| m_sum[k].iter().map(|s| s / m_weight[k]).collect())
+        .collect();
+
+    // Stage 2: hold m, fit λ and u on the pairs each key scores.
+    let mut expected = 0.0;
+    for (b, key) in keys.iter().enumerate() {
+        let fit_info = &mut blocks[b];
+        let new_pairs = key.counts.total() as f64 * key.scale;
+        if key.counts.total() == 0 {
+            continue;
         }
+        let active: Vec<bool> = key.excluded.iter().map(|e| !e).collect();
+        let lambda0 = stage1_lambda[b].unwrap_or(0.1);
+        let earlier: Vec<crate::record::Attr> = spec.blocks[..b]
+            .iter()
+            .flat_map(|bs| bs.keys.iter().map(|p| p.attr))
+            .collect();
+        let free_m: Vec<bool> = comparison
+            .comparators
+            .iter()
+            .map(|c| earlier.contains(&c.attr))
+            .collect();
+        let Some(cf) = conditional_fit(
+            &key.counts,
+            &m_final,
+            &u,
+            lambda0,
+            &free_m,
+            &opts(active.clone()),
+        ) else {
+            expected += lambda0 * new_pairs;
+            fit_info.lambda = lambda0;
+            continue;
+        };
+        expected += cf.lambda * new_pairs;
+        let wrong = (0..k_attrs)
+            .any(|k| active[k] && (cf.m[k][0] / cf.u[k][0]).log2() < -LOCAL_MIN_TOP_WEIGHT);
+        let keep = |rows: &[Vec<f64>]| -> Vec<Vec<f64>> {
+            rows.iter()
+                .zip(&active)
+                .map(|(r, a)| if *a { r.clone() } else { Vec::new() })
+                .collect()
+        };
+        fit_info.m = keep(&cf.m);
+        fit_info.u = keep(&cf.u);
+        fit_info.lambda = cf.lambda;
+        fit_info.iterations += cf.iterations;
+        fit_info.loglik_trace.extend(cf.trace);
+        fit_info.local = !wrong
+            && key.counts.total() >= MIN_LOCAL_PAIRS
+            && cf.lambda > 1e-6
+            && cf.lambda < 1.0 - 1e-6;
     }
     let all_pairs = (records * records.saturating_sub(1) / 2).max(1) as f64;
     let lambda = (expected / all_pairs).clamp(1e-12, 0.5);
@@ -686,7 +803,7 @@ pub fn fit(
         .iter()
         .enumerate()
         .map(|(k, c)| {
-            let m: Vec<f64> = m_sum[k].iter().map(|s| s / m_weight[k]).collect();
+            let m = m_final[k].clone();
             let weight = m
                 .iter()
                 .zip(&u[k])
@@ -702,49 +819,6 @@ pub fn fit(
             }
         })
         .collect();
-    // Stage 2: for each key whose pairs may be scored with their own fit, hold m at the
-    // combined estimate and fit only λ and u on the key's pairs, so that the match class
-    // stays "same person" and u absorbs what non-matches found by this key share
-    // (households share an address and often a phone).
-    let m_final: Vec<Vec<f64>> = attribute.iter().map(|a| a.m.clone()).collect();
-    for (b, key) in keys.iter().enumerate() {
-        let fit_info = &mut blocks[b];
-        if !fit_info.local {
-            continue;
-        }
-        let active: Vec<bool> = key.excluded.iter().map(|e| !e).collect();
-        match conditional_fit(
-            &key.counts,
-            &m_final,
-            &u,
-            fit_info.lambda,
-            &opts(active.clone()),
-        ) {
-            Some(ConditionalFit {
-                lambda: lambda_b,
-                u: u_b,
-                iterations,
-                trace,
-            }) => {
-                let wrong = (0..k_attrs).any(|k| {
-                    active[k] && (m_final[k][0] / u_b[k][0]).log2() < -LOCAL_MIN_TOP_WEIGHT
-                });
-                let keep = |rows: &[Vec<f64>]| -> Vec<Vec<f64>> {
-                    rows.iter()
-                        .zip(&active)
-                        .map(|(r, a)| if *a { r.clone() } else { Vec::new() })
-                        .collect()
-                };
-                fit_info.m = keep(&m_final);
-                fit_info.u = keep(&u_b);
-                fit_info.lambda = lambda_b;
-                fit_info.iterations += iterations;
-                fit_info.loglik_trace.extend(trace);
-                fit_info.local = !wrong && lambda_b > 1e-6 && lambda_b < 1.0 - 1e-6;
-            }
-            None => fit_info.local = false,
-        }
-    }
     warnings.extend(level_warnings(&attribute));
     Ok(Model {
         warnings,
@@ -754,7 +828,7 @@ pub fn fit(
         spec_layout: spec.model_layout(),
         lambda,
         records,
-        candidate_pairs,
+        candidate_pairs: candidate_pairs.round() as u64,
         expected_matches: expected,
         u_sample_pairs: u_pairs,
         attribute,

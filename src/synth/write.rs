@@ -152,7 +152,7 @@ levels = ["exact", "jaro_winkler >= 0.90"]
 
 [[block]]
 name = "name_postcode"
-keys = ["soundex(family_name)", "prefix(postcode, 3)"]
+keys = ["soundex(family_name)", "postcode"]
 
 [[block]]
 name = "email"
