@@ -10,5 +10,12 @@ mod commands;
 static GLOBAL: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 fn main() -> ExitCode {
+    // Like other Unix tools, end quietly when stdout is closed (e.g. piped into `head`)
+    // instead of failing on the next print.
+    #[cfg(unix)]
+    // SAFETY: restoring the default SIGPIPE disposition before any thread starts.
+    unsafe {
+        libc::signal(libc::SIGPIPE, libc::SIG_DFL);
+    }
     commands::main()
 }
