@@ -19,6 +19,9 @@ pub struct Args {
     /// Output folder (created if missing).
     #[arg(long)]
     pub out: std::path::PathBuf,
+    /// Harder data: many more households, twins and namesakes (for testing guards).
+    #[arg(long)]
+    pub hard: bool,
 }
 
 /// Run `kinlink synth`.
@@ -26,7 +29,11 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let cfg = SynthConfig {
         customers: args.customers,
         seed: args.seed,
-        noise: NoiseConfig::default(),
+        noise: if args.hard {
+            NoiseConfig::hard()
+        } else {
+            NoiseConfig::default()
+        },
     };
     cfg.check()?;
     let started = Instant::now();
@@ -62,6 +69,7 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let out = dir.path().join("out");
         let args = Args {
+            hard: false,
             customers: 50,
             seed: 3,
             out: out.clone(),
@@ -82,6 +90,7 @@ mod tests {
     fn too_many_customers_is_bad_input() {
         let dir = tempfile::tempdir().unwrap();
         let args = Args {
+            hard: false,
             customers: synth::MAX_CUSTOMERS + 1,
             seed: 3,
             out: dir.path().to_path_buf(),

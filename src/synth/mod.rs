@@ -347,6 +347,17 @@ impl Default for NoiseConfig {
 }
 
 impl NoiseConfig {
+    /// Default noise with many more look-alikes: households (0.35), twins among them
+    /// (0.15) and namesakes (0.10). Used to test clustering guards.
+    pub fn hard() -> NoiseConfig {
+        NoiseConfig {
+            household: 0.35,
+            twins: 0.15,
+            namesake: 0.10,
+            ..NoiseConfig::default()
+        }
+    }
+
     /// The rates by name, for checks and summaries.
     pub fn rates(&self) -> [(&'static str, f64); 23] {
         [
