@@ -24,6 +24,10 @@
 //!   source's [`NameOrder`] decides: given-first takes the last word plus the particles
 //!   before it as family name (but never the first word), family-first takes the
 //!   leading particles plus the next word. A one-word full name is a family name.
+//! - In Spanish-speaking countries a given-first full name of three or more words ends
+//!   in two family names (`María García López` → given `maría`, family `garcía lópez`).
+//!   This splits compound given names wrongly (`María José García` → family
+//!   `josé garcía`), which is the rarer case since everyone carries two family names.
 //! - The standardized full name is written `family, given` (or the single part), so
 //!   both input forms give the same value and standardizing again changes nothing.
 
@@ -207,7 +211,10 @@ pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Op
             } else {
                 match order {
                     NameOrder::GivenFirst => {
-                        let mut start = w.len() - 1;
+                        // Spanish naming: two family names ("María García López").
+                        let two =
+                            w.len() >= 3 && country.is_some_and(|c| SPANISH_SPEAKING.contains(&c));
+                        let mut start = w.len() - if two { 2 } else { 1 };
                         while start >= 2 && is_particle(&w[start - 1]) {
                             start -= 1;
                         }
@@ -315,6 +322,23 @@ mod tests {
         assert_eq!(split("John Smith Sr."), gf("john", "smith"));
         // A one-word part keeps its only word.
         assert_eq!(clean_name_part("Sr", None), (Some("sr".to_string()), false));
+    }
+
+    #[test]
+    fn spanish_double_family_names() {
+        let es = |raw| {
+            let s = split_full_name(raw, NameOrder::GivenFirst, Some("MX")).unwrap();
+            (s.given, s.family)
+        };
+        assert_eq!(es("María García López"), gf("maría", "garcía lópez"));
+        assert_eq!(
+            es("María José García López"),
+            gf("maría josé", "garcía lópez")
+        );
+        assert_eq!(es("Juan de la Cruz Pérez"), gf("juan", "de la cruz pérez"));
+        assert_eq!(es("Juan Pérez"), gf("juan", "pérez"));
+        // Elsewhere one family name.
+        assert_eq!(split("María García López"), gf("maría garcía", "lópez"));
     }
 
     #[test]
