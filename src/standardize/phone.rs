@@ -35,8 +35,11 @@ pub const E164_MAX_DIGITS: usize = 15;
 fn anchored(pattern: &str) -> Option<Regex> {
     // The crate compiles the metadata with `ignore_whitespace` and accepts a match that
     // starts at 0 (`find(..).start() == 0`); `^(?:..)` is the same test.
+    // A larger lazy-DFA cache: the big national-number patterns (US, GB) otherwise
+    // refill the default cache over and over.
     RegexBuilder::new(&format!("^(?:{pattern})"))
         .ignore_whitespace(true)
+        .dfa_size_limit(16 << 20)
         .build()
         .ok()
 }
