@@ -122,14 +122,15 @@ fn raw_words(part: &str) -> Vec<RawWord> {
             rest = tail;
             let dotted = piece.ends_with('.');
             let text = clean_text(piece);
-            if text.is_empty() {
-                continue;
+            // Punctuation inside a chunk can separate words ("jr#a" -> "jr", "a").
+            let mut words = text.split(' ').filter(|w| !w.is_empty()).peekable();
+            while let Some(w) = words.next() {
+                out.push(RawWord {
+                    key: w.replace('-', ""),
+                    dotted: dotted && words.peek().is_none(),
+                    text: w.to_string(),
+                });
             }
-            out.push(RawWord {
-                key: text.replace('-', ""),
-                dotted,
-                text,
-            });
         }
     }
     out
@@ -146,7 +147,12 @@ fn is_title(w: &RawWord, country: Option<&str>) -> bool {
 }
 
 fn is_suffix(w: &RawWord) -> bool {
-    SUFFIXES.contains(&w.key.as_str())
+    is_suffix_word(&w.key)
+}
+
+/// True for a generational suffix or post-nominal (`jr`, `sr`, `iii`, `phd`, ...).
+pub fn is_suffix_word(word: &str) -> bool {
+    SUFFIXES.contains(&word)
 }
 
 /// Remove leading titles and trailing suffixes, never the last remaining word.
@@ -165,7 +171,7 @@ fn strip(words: Vec<RawWord>, country: Option<&str>) -> (Vec<String>, bool) {
         .into_iter()
         .skip(start)
         .take(end - start)
-        .flat_map(|w| w.text.split(' ').map(str::to_string).collect::<Vec<_>>())
+        .map(|w| w.text)
         .collect();
     (kept, stripped)
 }
@@ -177,6 +183,18 @@ pub fn clean_name_part(raw: &str, country: Option<&str>) -> (Option<String>, boo
     let (kept, stripped) = strip(words, country);
     let joined = kept.join(" ");
     ((!joined.is_empty()).then_some(joined), stripped)
+}
+
+/// Drop leading titles and trailing suffixes of a name part, keeping one word.
+fn tidy(words: &[String]) -> (&[String], bool) {
+    let (mut a, mut b) = (0, words.len());
+    while b - a > 1 && TITLES.contains(&words[a].replace('-', "").as_str()) {
+        a += 1;
+    }
+    while b - a > 1 && is_suffix_word(&words[b - 1].replace('-', "")) {
+        b -= 1;
+    }
+    (&words[a..b], a > 0 || b < words.len())
 }
 
 fn join(words: &[String]) -> Option<String> {
@@ -193,8 +211,10 @@ pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Op
         if words.is_empty() {
             continue;
         }
-        // A later comma part made only of suffixes or titles: "Smith, John, Jr.".
-        if !parts.is_empty() && words.iter().all(|w| is_suffix(w) || is_title(w, country)) {
+        // A later comma part made only of suffixes or titles: "Smith, John, Jr.",
+        // "John Smith, Jr." (but in "Smith, Jr" the "Jr" may be the given name).
+        let full_before = parts.len() >= 2 || parts.first().is_some_and(|p| p.len() >= 2);
+        if full_before && words.iter().all(|w| is_suffix(w) || is_title(w, country)) {
             stripped = true;
             continue;
         }
@@ -209,7 +229,7 @@ pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Op
             if w.len() == 1 {
                 (None, join(w))
             } else {
-                match order {
+                let (given, family) = match order {
                     NameOrder::GivenFirst => {
                         // Spanish naming: two family names ("María García López").
                         let two =
@@ -218,16 +238,22 @@ pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Op
                         while start >= 2 && is_particle(&w[start - 1]) {
                             start -= 1;
                         }
-                        (join(&w[..start]), join(&w[start..]))
+                        (&w[..start], &w[start..])
                     }
                     NameOrder::FamilyFirst => {
                         let mut end = 0;
                         while end + 1 < w.len() && is_particle(&w[end]) {
                             end += 1;
                         }
-                        (join(&w[end + 1..]), join(&w[..=end]))
+                        (&w[end + 1..], &w[..=end])
                     }
-                }
+                };
+                // Each part is read back on its own from the `family, given` output, so
+                // it loses titles and suffixes at its edges now ("Ann IV Lee").
+                let (given, sg) = tidy(given);
+                let (family, sf) = tidy(family);
+                stripped |= sg || sf;
+                (join(given), join(family))
             }
         }
         _ => {
