@@ -11,7 +11,7 @@
 //! validity check runs every metadata pattern through one mutex-guarded LRU cache of 100
 //! regexes, which thrashes (≈40k numbers/s, serialized across threads). We therefore
 //! check validity ourselves with the same metadata patterns compiled once
-//! ([`is_valid_number`], same algorithm as the crate's `is_valid`), and parse two common
+//! ([`is_valid_number`], same algorithm as the crate's `is_valid`), and parse common
 //! shapes without the crate: 10- and 11-digit NANP numbers written with digits and
 //! separators ([`parse_nanp_fast`]), valid `+` international numbers
 //! ([`parse_international_fast`]) and valid national numbers with trunk prefix `0` in
@@ -203,70 +203,93 @@ pub fn parse_nanp_fast(raw: &str) -> Option<[u8; 10]> {
     Some(out)
 }
 
+/// What a fast path decided.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Fast {
+    /// A valid number: country calling code and national number.
+    Valid(u16, String),
+    /// A shape the fast path handles, and not a valid number.
+    Invalid,
+    /// Not a shape the fast path handles: use the full parser.
+    Unhandled,
+}
+
+fn decide(code: u16, national: &str) -> Fast {
+    if is_valid_number(code, national) {
+        Fast::Valid(code, national.to_string())
+    } else {
+        Fast::Invalid
+    }
+}
+
 /// Fast path for international numbers written as `+` and digits with the separators
-/// ` -./` only (no `(0)`), e.g. stored E.164 values: the country code is the shortest
-/// known 1-3 digit prefix, as in the crate. Only returns numbers that are valid
-/// ([`is_valid_number`]) and from which the crate would not try to strip a trunk
-/// prefix (the national part does not start with one, and the regions of the code have
-/// no trunk-prefix pattern); everything else goes to the full parser.
-pub fn parse_international_fast(raw: &str) -> Option<(u16, String)> {
-    let rest = raw.strip_prefix('+')?;
+/// ` -./` only (no `(0)`, and only spaces among the first three digits), e.g. stored
+/// E.164 values: the country code is the shortest
+/// known 1-3 digit prefix, as in the crate, and the rest is the national number.
+/// Unhandled when the crate would try to strip a trunk prefix from it (it starts with
+/// one, or a region of the code has a trunk-prefix pattern).
+pub fn parse_international_fast(raw: &str) -> Fast {
+    let Some(rest) = raw.strip_prefix('+') else {
+        return Fast::Unhandled;
+    };
     let mut digits = String::with_capacity(16);
     for b in rest.bytes() {
         match b {
             b'0'..=b'9' => digits.push(b as char),
-            b' ' | b'-' | b'.' | b'/' => {}
-            _ => return None,
+            b' ' => {}
+            // The crate reads `+4-3...` as country code 4; let it decide such cases.
+            b'-' | b'.' | b'/' if digits.len() >= 3 => {}
+            _ => return Fast::Unhandled,
         }
     }
     if !(8..=E164_MAX_DIGITS).contains(&digits.len()) || digits.starts_with('0') {
-        return None;
+        return Fast::Unhandled;
     }
     for len in 1..=3 {
-        let code: u16 = digits[..len].parse().ok()?;
+        let Ok(code) = digits[..len].parse::<u16>() else {
+            return Fast::Unhandled;
+        };
         if let Some(metas) = DATABASE.by_code(&code) {
             let national = &digits[len..];
-            // Where the crate would try to strip a trunk prefix, let it decide.
             let may_strip = metas.iter().any(|m| {
                 m.national_prefix_for_parsing().is_some()
                     || m.national_prefix().is_some_and(|p| national.starts_with(p))
             });
-            if may_strip || !is_valid_number(code, national) {
-                return None;
+            if may_strip {
+                return Fast::Unhandled;
             }
-            return Some((code, national.to_string()));
+            return decide(code, national);
         }
     }
-    None
+    Fast::Unhandled
 }
 
 /// Fast path for national numbers in the regions of [`IDD_00`] whose trunk prefix is
 /// `0` and whose metadata has no trunk-prefix pattern: digits and the separators
 /// ` ()-./` only, one leading `0` (two would be the international prefix). The `0` is
-/// dropped, as the crate does. Only valid numbers are returned; everything else goes to
-/// the full parser.
-pub fn parse_national_fast(raw: &str, region: &str) -> Option<(u16, String)> {
+/// dropped, as the crate does.
+pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
     if !IDD_00.contains(&region) {
-        return None;
+        return Fast::Unhandled;
     }
-    let meta = DATABASE.by_id(region)?;
+    let Some(meta) = DATABASE.by_id(region) else {
+        return Fast::Unhandled;
+    };
     if meta.national_prefix() != Some("0") || meta.national_prefix_for_parsing().is_some() {
-        return None;
+        return Fast::Unhandled;
     }
     let mut digits = String::with_capacity(16);
     for b in raw.bytes() {
         match b {
             b'0'..=b'9' => digits.push(b as char),
             b' ' | b'(' | b')' | b'-' | b'.' | b'/' => {}
-            _ => return None,
+            _ => return Fast::Unhandled,
         }
     }
-    let national = digits.strip_prefix('0')?;
-    if national.starts_with('0') {
-        return None;
+    match digits.strip_prefix('0') {
+        Some(national) if !national.starts_with('0') => decide(meta.country_code(), national),
+        _ => Fast::Unhandled,
     }
-    let code = meta.country_code();
-    is_valid_number(code, national).then(|| (code, national.to_string()))
 }
 
 static ENLARGE_CACHE: Once = Once::new();
@@ -337,7 +360,11 @@ pub fn normalize_phone(raw: &str, region: Option<&str>) -> Cleaned {
     let parsed = match region {
         _ if international.is_some() => {
             let plus = international.as_deref().unwrap_or(raw);
-            parse_international_fast(plus).or_else(|| parse_with_crate(plus, None))
+            match parse_international_fast(plus) {
+                Fast::Valid(code, national) => Some((code, national)),
+                Fast::Invalid => None,
+                Fast::Unhandled => parse_with_crate(plus, None),
+            }
         }
         Some(r) if is_nanp_fast_region(r) => match parse_nanp_fast(raw) {
             Some(national) => {
@@ -347,8 +374,9 @@ pub fn normalize_phone(raw: &str, region: Option<&str>) -> Cleaned {
             None => parse_with_crate(raw, r.parse().ok()),
         },
         Some(r) => match parse_national_fast(raw, r) {
-            Some(found) => Some(found),
-            None => parse_with_crate(raw, region_id(region)),
+            Fast::Valid(code, national) => Some((code, national)),
+            Fast::Invalid => None,
+            Fast::Unhandled => parse_with_crate(raw, region_id(region)),
         },
         // No region: only numbers with their own country code can parse.
         None => parse_with_crate(raw, None),
@@ -606,7 +634,7 @@ mod tests {
                         2 => format!("(0{}) {}", &national[..3], &national[3..]),
                         _ => format!("0{}/{}", &national[..2], &national[2..]),
                     };
-                    if parse_national_fast(&raw, region).is_some() {
+                    if matches!(parse_national_fast(&raw, region), Fast::Valid(..)) {
                         hits += 1;
                     }
                     let id: Id = region.parse().unwrap();
@@ -664,7 +692,7 @@ mod tests {
             } else {
                 format!("+{code} {} {}", &national[..2], &national[2..])
             };
-            if parse_international_fast(&raw).is_some() {
+            if matches!(parse_international_fast(&raw), Fast::Valid(..)) {
                 hits += 1;
             }
             assert_eq!(e164(&raw, None), crate_e164(&raw, None), "{raw}");
