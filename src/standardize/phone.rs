@@ -71,6 +71,10 @@ struct Region {
     /// The number types the crate's `number_type` tests, in its order.
     kinds: Vec<Desc>,
     leading_digits: Option<Regex>,
+    /// The trunk-prefix pattern (`national_prefix_for_parsing`), anchored.
+    trunk_pattern: Option<Regex>,
+    /// Whether a transform rule rewrites what the trunk pattern matched.
+    trunk_transform: bool,
 }
 
 impl Region {
@@ -96,7 +100,28 @@ impl Region {
             general: Desc::new(d.general()),
             kinds,
             leading_digits: meta.leading_digits().and_then(|r| anchored(r.as_str())),
+            trunk_pattern: meta
+                .national_prefix_for_parsing()
+                .and_then(|r| anchored(r.as_str())),
+            trunk_transform: meta.national_prefix_transform_rule().is_some(),
         }
+    }
+
+    /// Whether the crate's parser could strip or rewrite a trunk prefix of `digits`
+    /// other than exactly one leading `0` (see `helper::national_number` in the crate).
+    fn trunk_other_than_zero(&self, digits: &str) -> bool {
+        match &self.trunk_pattern {
+            None => false,
+            Some(re) => self.trunk_transform || re.find(digits).is_none_or(|m| m.end() != 1),
+        }
+    }
+
+    /// Whether the crate's parser could strip anything from `national` (which has no
+    /// trunk prefix written).
+    fn trunk_matches(&self, national: &str) -> bool {
+        self.trunk_pattern
+            .as_ref()
+            .is_some_and(|re| re.is_match(national))
     }
 
     fn is_valid(&self, national: &str) -> bool {
@@ -104,17 +129,15 @@ impl Region {
     }
 }
 
-/// Cache key of a metadata entry: the region id, or `+code` for the non-geographic
-/// entries, which all share the id `001`.
-fn region_key(meta: &Metadata) -> String {
-    if meta.id() == "001" {
-        format!("+{}", meta.country_code())
-    } else {
-        meta.id().to_string()
-    }
+/// Cache key of a metadata entry: its address. The entries live in the crate's static
+/// database (behind `Arc`s that are never replaced), so the address is stable, and
+/// unlike the id it also tells apart the non-geographic entries, which all have id
+/// `001`.
+fn region_key(meta: &Metadata) -> usize {
+    meta as *const Metadata as usize
 }
 
-static REGIONS: LazyLock<HashMap<String, OnceLock<Region>>> = LazyLock::new(|| {
+static REGIONS: LazyLock<HashMap<usize, OnceLock<Region>>> = LazyLock::new(|| {
     // `Database::iter` yields one entry per id, so walk the calling codes instead to
     // see every non-geographic entry (country calling codes have 1-3 digits).
     (1..1000u16)
@@ -227,7 +250,7 @@ fn decide(code: u16, national: &str) -> Fast {
 /// E.164 values: the country code is the shortest
 /// known 1-3 digit prefix, as in the crate, and the rest is the national number.
 /// Unhandled when the crate would try to strip a trunk prefix from it (it starts with
-/// one, or a region of the code has a trunk-prefix pattern).
+/// one, or the trunk-prefix pattern of a region of the code matches it).
 pub fn parse_international_fast(raw: &str) -> Fast {
     let Some(rest) = raw.strip_prefix('+') else {
         return Fast::Unhandled;
@@ -252,8 +275,9 @@ pub fn parse_international_fast(raw: &str) -> Fast {
         if let Some(metas) = DATABASE.by_code(&code) {
             let national = &digits[len..];
             let may_strip = metas.iter().any(|m| {
-                m.national_prefix_for_parsing().is_some()
-                    || m.national_prefix().is_some_and(|p| national.starts_with(p))
+                m.national_prefix().is_some_and(|p| national.starts_with(p))
+                    || (m.national_prefix_for_parsing().is_some()
+                        && compiled(m).is_none_or(|r| r.trunk_matches(national)))
             });
             if may_strip {
                 return Fast::Unhandled;
@@ -265,9 +289,10 @@ pub fn parse_international_fast(raw: &str) -> Fast {
 }
 
 /// Fast path for national numbers in the regions of [`IDD_00`] whose trunk prefix is
-/// `0` and whose metadata has no trunk-prefix pattern: digits and the separators
-/// ` ()-./` only, one leading `0` (two would be the international prefix). The `0` is
-/// dropped, as the crate does.
+/// `0`: digits and the separators ` ()-./` only, one leading `0` (two would be the
+/// international prefix). The `0` is dropped, as the crate does. Unhandled when the
+/// region's trunk-prefix pattern would strip anything else (GB's `0|180020` strips
+/// just the `0` from such input).
 pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
     if !IDD_00.contains(&region) {
         return Fast::Unhandled;
@@ -275,7 +300,7 @@ pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
     let Some(meta) = DATABASE.by_id(region) else {
         return Fast::Unhandled;
     };
-    if meta.national_prefix() != Some("0") || meta.national_prefix_for_parsing().is_some() {
+    if meta.national_prefix() != Some("0") {
         return Fast::Unhandled;
     }
     let mut digits = String::with_capacity(16);
@@ -285,6 +310,11 @@ pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
             b' ' | b'(' | b')' | b'-' | b'.' | b'/' => {}
             _ => return Fast::Unhandled,
         }
+    }
+    if meta.national_prefix_for_parsing().is_some()
+        && compiled(meta).is_none_or(|r| r.trunk_other_than_zero(&digits))
+    {
+        return Fast::Unhandled;
     }
     match digits.strip_prefix('0') {
         Some(national) if !national.starts_with('0') => decide(meta.country_code(), national),
