@@ -222,38 +222,62 @@ fn is_po_box(words: &[&str]) -> bool {
     )
 }
 
-fn take_leading(words: &mut Vec<&str>, style: Style) -> Option<String> {
+/// Number of words of a leading house number (`12`, `12 a`, `12 bis`), if any.
+fn leading_len(words: &[&str], style: Style) -> Option<usize> {
     if words.len() < 2 || !is_number_word(words[0]) {
         return None;
     }
-    let mut hn = words.remove(0).to_string();
-    if words.len() >= 2 && is_number_suffix(words[0], style) {
-        hn.push_str(words.remove(0));
+    Some(if words.len() >= 3 && is_number_suffix(words[1], style) {
+        2
+    } else {
+        1
+    })
+}
+
+/// Number of words of a trailing house number, if any.
+fn trailing_len(words: &[&str], style: Style) -> Option<usize> {
+    let n = words.len();
+    if n >= 3 && is_number_word(words[n - 2]) && is_number_suffix(words[n - 1], style) {
+        Some(2)
+    } else if n >= 2 && is_number_word(words[n - 1]) {
+        Some(1)
+    } else {
+        None
     }
-    Some(hn)
+}
+
+/// Whether the rest of the line still holds a house number that [`parse_street`] would
+/// take (`12 3 Mile Rd`): then which one is the house number is unclear, and a second
+/// pass would split again, so nothing is split.
+fn another_number(rest: &[&str], style: Style) -> bool {
+    leading_len(rest, style).is_some()
+        || (style != Style::English && trailing_len(rest, style).is_some())
+}
+
+fn take_leading(words: &mut Vec<&str>, style: Style) -> Option<String> {
+    let k = leading_len(words, style)?;
+    if another_number(&words[k..], style) {
+        return None;
+    }
+    Some(words.drain(..k).collect())
 }
 
 fn take_trailing(words: &mut Vec<&str>, style: Style) -> Option<String> {
+    let k = trailing_len(words, style)?;
     let n = words.len();
-    if n >= 3 && is_number_word(words[n - 2]) && is_number_suffix(words[n - 1], style) {
-        let hn = format!("{}{}", words[n - 2], words[n - 1]);
-        words.truncate(n - 2);
-        return Some(hn);
+    if another_number(&words[..n - k], style) {
+        return None;
     }
-    if n >= 2 && is_number_word(words[n - 1]) {
-        return words.pop().map(str::to_string);
-    }
-    None
+    Some(words.drain(n - k..).collect())
 }
 
 fn take_unit(words: &mut Vec<&str>) -> Option<String> {
     // A designator followed by an identifier, not at the start of the line.
-    let pos = (1..words.len().saturating_sub(1)).find(|&i| lookup(UNITS, words[i]).is_some())?;
-    let id = words[pos + 1];
-    let id_ok = id.bytes().any(|b| b.is_ascii_digit()) || id.chars().count() == 1;
-    if !id_ok {
-        return None;
-    }
+    let pos = (1..words.len().saturating_sub(1)).find(|&i| {
+        let id = words[i + 1];
+        lookup(UNITS, words[i]).is_some()
+            && (id.bytes().any(|b| b.is_ascii_digit()) || id.chars().count() == 1)
+    })?;
     let designator = lookup(UNITS, words[pos]).unwrap_or("#");
     let unit = std::iter::once(designator)
         .chain(words[pos + 1..].iter().copied())
@@ -663,6 +687,9 @@ mod tests {
         );
         check("4 Loop", Some("US"), "loop", "4", "");
         check("Route 66", Some("US"), "route 66", "", "");
+        check("12 Route 66", Some("US"), "route 66", "12", "");
+        // Two candidate numbers: nothing is split.
+        check("12 3 Mile Road", Some("US"), "12 3 mile rd", "", "");
     }
 
     #[test]

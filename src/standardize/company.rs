@@ -142,26 +142,34 @@ pub fn split_company(raw: &str) -> Option<CompanyName> {
     if words.is_empty() {
         return None;
     }
-    let mut legal_form = None;
-    for (form, canonical) in LEGAL_FORMS {
-        let k = form.len();
-        if words.len() > k
-            && words[words.len() - k..]
-                .iter()
-                .map(String::as_str)
-                .eq(form.iter().copied())
-        {
-            words.truncate(words.len() - k);
-            legal_form = Some(canonical.to_string());
+    // A connector left dangling at the end ("Smith &", "AT&").
+    while words.len() > 1 && words.last().is_some_and(|w| w == "&") {
+        words.pop();
+    }
+    // Strip legal forms from the end until none is left ("Foo LLP Inc"); the last
+    // one written (the outermost) is the legal form.
+    let mut legal_form: Option<String> = None;
+    loop {
+        let found = LEGAL_FORMS.iter().find(|(form, _)| {
+            let k = form.len();
+            words.len() > k
+                && words[words.len() - k..]
+                    .iter()
+                    .map(String::as_str)
+                    .eq(form.iter().copied())
+        });
+        let Some((form, canonical)) = found else {
             break;
+        };
+        words.truncate(words.len() - form.len());
+        legal_form.get_or_insert_with(|| canonical.to_string());
+        // A connector left dangling at the end ("Smith &" after "Smith & Co KG").
+        while words.len() > 1 && words.last().is_some_and(|w| w == "&") {
+            words.pop();
         }
     }
     if legal_form.is_none() && words.len() > 1 && LEADING_FORMS.contains(&words[0].as_str()) {
         legal_form = Some(words.remove(0));
-    }
-    // A connector left dangling at the end ("Smith &" after "Smith & Co KG").
-    while words.len() > 1 && words.last().is_some_and(|w| w == "&") {
-        words.pop();
     }
     Some(CompanyName {
         name: words.join(" "),
@@ -225,6 +233,8 @@ mod tests {
         assert_eq!(split("Shell N.V."), nl("shell", Some("nv")));
         // The name keeps at least one word.
         assert_eq!(split("Limited"), nl("limited", None));
+        // Several forms: all removed, the outermost kept.
+        assert_eq!(split("Foo LLP Inc."), nl("foo", Some("inc")));
     }
 
     #[test]

@@ -24,6 +24,10 @@
 //!   source's [`NameOrder`] decides: given-first takes the last word plus the particles
 //!   before it as family name (but never the first word), family-first takes the
 //!   leading particles plus the next word. A one-word full name is a family name.
+//! - In Spanish-speaking countries a given-first full name of three or more words ends
+//!   in two family names (`María García López` → given `maría`, family `garcía lópez`).
+//!   This splits compound given names wrongly (`María José García` → family
+//!   `josé garcía`), which is the rarer case since everyone carries two family names.
 //! - The standardized full name is written `family, given` (or the single part), so
 //!   both input forms give the same value and standardizing again changes nothing.
 
@@ -118,14 +122,15 @@ fn raw_words(part: &str) -> Vec<RawWord> {
             rest = tail;
             let dotted = piece.ends_with('.');
             let text = clean_text(piece);
-            if text.is_empty() {
-                continue;
+            // Punctuation inside a chunk can separate words ("jr#a" -> "jr", "a").
+            let mut words = text.split(' ').filter(|w| !w.is_empty()).peekable();
+            while let Some(w) = words.next() {
+                out.push(RawWord {
+                    key: w.replace('-', ""),
+                    dotted: dotted && words.peek().is_none(),
+                    text: w.to_string(),
+                });
             }
-            out.push(RawWord {
-                key: text.replace('-', ""),
-                dotted,
-                text,
-            });
         }
     }
     out
@@ -142,7 +147,12 @@ fn is_title(w: &RawWord, country: Option<&str>) -> bool {
 }
 
 fn is_suffix(w: &RawWord) -> bool {
-    SUFFIXES.contains(&w.key.as_str())
+    is_suffix_word(&w.key)
+}
+
+/// True for a generational suffix or post-nominal (`jr`, `sr`, `iii`, `phd`, ...).
+pub fn is_suffix_word(word: &str) -> bool {
+    SUFFIXES.contains(&word)
 }
 
 /// Remove leading titles and trailing suffixes, never the last remaining word.
@@ -161,7 +171,7 @@ fn strip(words: Vec<RawWord>, country: Option<&str>) -> (Vec<String>, bool) {
         .into_iter()
         .skip(start)
         .take(end - start)
-        .flat_map(|w| w.text.split(' ').map(str::to_string).collect::<Vec<_>>())
+        .map(|w| w.text)
         .collect();
     (kept, stripped)
 }
@@ -173,6 +183,18 @@ pub fn clean_name_part(raw: &str, country: Option<&str>) -> (Option<String>, boo
     let (kept, stripped) = strip(words, country);
     let joined = kept.join(" ");
     ((!joined.is_empty()).then_some(joined), stripped)
+}
+
+/// Drop leading titles and trailing suffixes of a name part, keeping one word.
+fn tidy(words: &[String]) -> (&[String], bool) {
+    let (mut a, mut b) = (0, words.len());
+    while b - a > 1 && TITLES.contains(&words[a].replace('-', "").as_str()) {
+        a += 1;
+    }
+    while b - a > 1 && is_suffix_word(&words[b - 1].replace('-', "")) {
+        b -= 1;
+    }
+    (&words[a..b], a > 0 || b < words.len())
 }
 
 fn join(words: &[String]) -> Option<String> {
@@ -189,8 +211,10 @@ pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Op
         if words.is_empty() {
             continue;
         }
-        // A later comma part made only of suffixes or titles: "Smith, John, Jr.".
-        if !parts.is_empty() && words.iter().all(|w| is_suffix(w) || is_title(w, country)) {
+        // A later comma part made only of suffixes or titles: "Smith, John, Jr.",
+        // "John Smith, Jr." (but in "Smith, Jr" the "Jr" may be the given name).
+        let full_before = parts.len() >= 2 || parts.first().is_some_and(|p| p.len() >= 2);
+        if full_before && words.iter().all(|w| is_suffix(w) || is_title(w, country)) {
             stripped = true;
             continue;
         }
@@ -205,22 +229,31 @@ pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Op
             if w.len() == 1 {
                 (None, join(w))
             } else {
-                match order {
+                let (given, family) = match order {
                     NameOrder::GivenFirst => {
-                        let mut start = w.len() - 1;
+                        // Spanish naming: two family names ("María García López").
+                        let two =
+                            w.len() >= 3 && country.is_some_and(|c| SPANISH_SPEAKING.contains(&c));
+                        let mut start = w.len() - if two { 2 } else { 1 };
                         while start >= 2 && is_particle(&w[start - 1]) {
                             start -= 1;
                         }
-                        (join(&w[..start]), join(&w[start..]))
+                        (&w[..start], &w[start..])
                     }
                     NameOrder::FamilyFirst => {
                         let mut end = 0;
                         while end + 1 < w.len() && is_particle(&w[end]) {
                             end += 1;
                         }
-                        (join(&w[end + 1..]), join(&w[..=end]))
+                        (&w[end + 1..], &w[..=end])
                     }
-                }
+                };
+                // Each part is read back on its own from the `family, given` output, so
+                // it loses titles and suffixes at its edges now ("Ann IV Lee").
+                let (given, sg) = tidy(given);
+                let (family, sf) = tidy(family);
+                stripped |= sg || sf;
+                (join(given), join(family))
             }
         }
         _ => {
@@ -315,6 +348,23 @@ mod tests {
         assert_eq!(split("John Smith Sr."), gf("john", "smith"));
         // A one-word part keeps its only word.
         assert_eq!(clean_name_part("Sr", None), (Some("sr".to_string()), false));
+    }
+
+    #[test]
+    fn spanish_double_family_names() {
+        let es = |raw| {
+            let s = split_full_name(raw, NameOrder::GivenFirst, Some("MX")).unwrap();
+            (s.given, s.family)
+        };
+        assert_eq!(es("María García López"), gf("maría", "garcía lópez"));
+        assert_eq!(
+            es("María José García López"),
+            gf("maría josé", "garcía lópez")
+        );
+        assert_eq!(es("Juan de la Cruz Pérez"), gf("juan", "de la cruz pérez"));
+        assert_eq!(es("Juan Pérez"), gf("juan", "pérez"));
+        // Elsewhere one family name.
+        assert_eq!(split("María García López"), gf("maría garcía", "lópez"));
     }
 
     #[test]

@@ -13,6 +13,7 @@
 //! `robert`; likewise `albert` ~ `al` and `alexander` ~ `al` but `albert` !~
 //! `alexander`. Lookups fold names to ASCII first ([`fold_ascii`]), so `José` ~ `Pepe`.
 
+use std::borrow::Cow;
 use std::collections::HashMap;
 use std::sync::LazyLock;
 
@@ -72,16 +73,58 @@ impl Table {
 
 static TABLE: LazyLock<Table> = LazyLock::new(Table::load);
 
+/// Fold for lookup without allocating when the name is already lower-case ASCII.
+fn fold_key(name: &str) -> Cow<'_, str> {
+    let t = name.trim();
+    if t.bytes().all(|b| b.is_ascii() && !b.is_ascii_uppercase()) {
+        Cow::Borrowed(t)
+    } else {
+        Cow::Owned(fold_ascii(t))
+    }
+}
+
+/// A name's place in the nickname tables, for callers that compare many pairs: look
+/// each distinct value up once with [`nickname_entry`], then compare entries.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct NicknameEntry {
+    id: u32,
+    links: &'static [u32],
+}
+
+impl NicknameEntry {
+    /// The name's id in the tables.
+    pub fn id(&self) -> u32 {
+        self.id
+    }
+
+    /// Sorted ids of the name itself and of the names it is linked to.
+    pub fn links(&self) -> &'static [u32] {
+        self.links
+    }
+
+    /// Same name or directly linked (the [`nickname_equivalent`] test for one word).
+    pub fn is_equivalent(&self, other: &NicknameEntry) -> bool {
+        self.links.binary_search(&other.id).is_ok()
+    }
+}
+
+/// The table entry of `name` (folded to ASCII, trimmed), if the tables know it.
+pub fn nickname_entry(name: &str) -> Option<NicknameEntry> {
+    let key = fold_key(name);
+    TABLE
+        .names
+        .get(key.as_ref())
+        .map(|(id, links)| NicknameEntry {
+            id: *id,
+            links: links.as_slice(),
+        })
+}
+
 /// Ids of `name` and of the names it is linked to (empty when unknown), after folding
 /// to ASCII and trimming. Two equivalent names always share an id, so these work as
 /// blocking keys (names sharing an id are not necessarily equivalent).
 pub fn nickname_groups(name: &str) -> &'static [u32] {
-    let key = fold_ascii(name.trim());
-    TABLE
-        .names
-        .get(&key)
-        .map(|(_, ids)| ids.as_slice())
-        .unwrap_or(&[])
+    nickname_entry(name).map(|e| e.links).unwrap_or(&[])
 }
 
 #[cfg(test)]
@@ -107,8 +150,8 @@ fn single_equivalent(a: &str, b: &str) -> bool {
 /// `mary ann` ~ `mary`); two multi-word names only agree as wholes. Empty names are
 /// never equivalent.
 pub fn nickname_equivalent(a: &str, b: &str) -> bool {
-    let fa = fold_ascii(a.trim());
-    let fb = fold_ascii(b.trim());
+    let fa = fold_key(a);
+    let fb = fold_key(b);
     if fa.is_empty() || fb.is_empty() {
         return false;
     }
@@ -185,6 +228,17 @@ mod tests {
         assert!(!nickname_equivalent("mary ann", "mary beth"));
         assert!(!nickname_equivalent("", ""));
         assert!(!nickname_equivalent("zzyzx", "bob"));
+    }
+
+    #[test]
+    fn entries_compare_like_names() {
+        let bill = nickname_entry("Bill").unwrap();
+        let william = nickname_entry("william").unwrap();
+        let robert = nickname_entry("robert").unwrap();
+        assert!(bill.is_equivalent(&william) && william.is_equivalent(&bill));
+        assert!(william.is_equivalent(&william));
+        assert!(!william.is_equivalent(&robert));
+        assert!(nickname_entry("zzyzx").is_none());
     }
 
     #[test]
