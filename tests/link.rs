@@ -284,10 +284,14 @@ fn demo_meets_its_quality_targets() {
 
 #[test]
 fn committed_model_files_keep_loading() {
-    // One fixture per model-file version; version 1 was fitted on the demo data.
-    let spec = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/spec.toml");
-    for model in ["tests/data/model-v1.toml", "models/demo.toml"] {
-        let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(model);
+    // One fixture per model-file version (version 1: fitted on tests/data/mini), and the
+    // shipped demo model with the demo spec.
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+    for (spec, model) in [
+        ("tests/data/mini/spec.toml", "tests/data/model-v1.toml"),
+        ("demo-data/spec.toml", "models/demo.toml"),
+    ] {
+        let (spec, model) = (root.join(spec), root.join(model));
         let out = tempfile::tempdir().unwrap();
         let o = run(
             &[

@@ -102,7 +102,12 @@ impl Comparator {
         let cached = has(|l| {
             matches!(
                 l,
-                Level::JaroWinkler(_) | Level::Jaro(_) | Level::Levenshtein(_) | Level::Nickname
+                Level::JaroWinkler(_)
+                    | Level::Jaro(_)
+                    | Level::Levenshtein(_)
+                    | Level::Nickname
+                    | Level::MongeElkan(_)
+                    | Level::AnyToken
             )
         });
         Comparator {
@@ -192,6 +197,9 @@ impl Comparator {
                 }
                 Level::Jaro(t) => *jaro.get_or_insert_with(|| strings::jaro(fa, fb)) >= t,
                 Level::Levenshtein(k) => strings::levenshtein_within(fa, fb, k as usize).is_some(),
+                Level::LocalPart => same_local_part(fa, fb),
+                Level::AnyToken => shares_token(fa, fb),
+                Level::MongeElkan(t) => monge_elkan(fa, fb) >= t,
                 Level::DateSwap => match (self.dates[a as usize], self.dates[b as usize]) {
                     (Some(x), Some(y)) => x.0 == y.0 && x.1 == y.2 && x.2 == y.1,
                     _ => false,
@@ -208,6 +216,51 @@ impl Comparator {
         }
         self.disagree()
     }
+}
+
+/// Same local part (before `@`) and a different domain.
+fn same_local_part(a: &str, b: &str) -> bool {
+    match (a.rsplit_once('@'), b.rsplit_once('@')) {
+        (Some((la, da)), Some((lb, db))) => !la.is_empty() && la == lb && da != db,
+        _ => false,
+    }
+}
+
+fn tokens(s: &str) -> impl Iterator<Item = &str> {
+    s.split([' ', '-', ',', '.', '&', '/'])
+        .filter(|t| !t.is_empty())
+}
+
+/// The two values share a word of two or more characters that is not a family-name
+/// particle (van, de, la, ...).
+fn shares_token(a: &str, b: &str) -> bool {
+    tokens(a).any(|x| {
+        x.chars().count() > 1
+            && !crate::standardize::names::is_particle(x)
+            && tokens(b).any(|y| x == y)
+    })
+}
+
+/// Symmetric Monge–Elkan similarity: for each word of one value the best Jaro–Winkler
+/// match among the words of the other, averaged; the mean of both directions
+/// (Monge & Elkan 1996; the symmetric form is common practice, no source).
+pub fn monge_elkan(a: &str, b: &str) -> f64 {
+    let ta: Vec<&str> = tokens(a).collect();
+    let tb: Vec<&str> = tokens(b).collect();
+    if ta.is_empty() || tb.is_empty() {
+        return 0.0;
+    }
+    let one_way = |x: &[&str], y: &[&str]| {
+        x.iter()
+            .map(|p| {
+                y.iter()
+                    .map(|q| strings::jaro_winkler(p, q))
+                    .fold(0.0, f64::max)
+            })
+            .sum::<f64>()
+            / x.len() as f64
+    };
+    (one_way(&ta, &tb) + one_way(&tb, &ta)) / 2.0
 }
 
 fn intersects(a: &[u32], b: &[u32]) -> bool {
@@ -445,6 +498,35 @@ mod tests {
             got,
             ["date_swap", "date_one_digit", "same_year", "disagree"]
         );
+    }
+
+    #[test]
+    fn word_and_email_levels() {
+        assert!(same_local_part(
+            "ana.ruiz@mail.example",
+            "ana.ruiz@post.example"
+        ));
+        assert!(!same_local_part(
+            "ana.ruiz@mail.example",
+            "ana.ruiz@mail.example"
+        ));
+        assert!(!same_local_part("ana@x.example", "anna@x.example"));
+        // Spanish double family name against one of its parts.
+        assert!(shares_token("garcia lopez", "garcia"));
+        assert!(shares_token("lopez", "garcia lopez"));
+        assert!(
+            !shares_token("de la cruz", "de leon"),
+            "one-letter words do not count"
+        );
+        // Hand-computed: word order does not matter, identical words give 1.
+        assert!((monge_elkan("acme tools", "tools acme") - 1.0).abs() < 1e-12);
+        // "acme tools" vs "acme": a->b (1 + JW(tools, acme)) / 2, b->a 1; JW(tools, acme) = 0
+        // (no common characters within the window), so (0.5 + 1) / 2 = 0.75.
+        assert!((monge_elkan("acme tools", "acme") - 0.75).abs() < 1e-12);
+        assert_eq!(monge_elkan("", "acme"), 0.0);
+        for (x, y) in [("acme tools", "acme tool co"), ("a b", "b c d")] {
+            assert!((monge_elkan(x, y) - monge_elkan(y, x)).abs() < 1e-12);
+        }
     }
 
     #[test]

@@ -77,6 +77,12 @@ pub enum Level {
     Initial,
     /// Same American Soundex code.
     Soundex,
+    /// E-mail addresses with the same local part on another domain.
+    LocalPart,
+    /// The values share a word (double family names, company names).
+    AnyToken,
+    /// Symmetric Monge–Elkan similarity over words (Jaro–Winkler inside) at least x.
+    MongeElkan(f64),
     /// Jaro–Winkler similarity at least the threshold.
     JaroWinkler(f64),
     /// Jaro similarity at least the threshold.
@@ -99,6 +105,9 @@ impl fmt::Display for Level {
             Level::Nickname => f.write_str("nickname"),
             Level::Initial => f.write_str("initial"),
             Level::Soundex => f.write_str("soundex"),
+            Level::LocalPart => f.write_str("local_part"),
+            Level::AnyToken => f.write_str("any_token"),
+            Level::MongeElkan(t) => write!(f, "monge_elkan >= {t}"),
             Level::JaroWinkler(t) => write!(f, "jaro_winkler >= {t}"),
             Level::Jaro(t) => write!(f, "jaro >= {t}"),
             Level::Levenshtein(k) => write!(f, "levenshtein <= {k}"),
@@ -109,8 +118,9 @@ impl fmt::Display for Level {
     }
 }
 
-const LEVEL_HELP: &str = "exact, translit, nickname, initial, soundex, \"jaro_winkler >= 0.9\", \
-     \"jaro >= 0.9\", \"levenshtein <= 2\", date_swap, date_one_digit, same_year";
+const LEVEL_HELP: &str = "exact, translit, nickname, initial, soundex, local_part, any_token, \
+     \"jaro_winkler >= 0.9\", \"jaro >= 0.9\", \"monge_elkan >= 0.9\", \"levenshtein <= 2\", \
+     date_swap, date_one_digit, same_year";
 
 impl Level {
     /// Parse a level as written in the spec.
@@ -122,6 +132,8 @@ impl Level {
             "nickname" => Some(Level::Nickname),
             "initial" => Some(Level::Initial),
             "soundex" => Some(Level::Soundex),
+            "local_part" => Some(Level::LocalPart),
+            "any_token" => Some(Level::AnyToken),
             "date_swap" => Some(Level::DateSwap),
             "date_one_digit" => Some(Level::DateOneDigit),
             "same_year" => Some(Level::SameYear),
@@ -135,6 +147,7 @@ impl Level {
             let make: fn(f64) -> Level = match name.trim() {
                 "jaro_winkler" => Level::JaroWinkler,
                 "jaro" => Level::Jaro,
+                "monge_elkan" => Level::MongeElkan,
                 _ => return Err(bad()),
             };
             let x: f64 = rest.trim().parse().map_err(|_| bad())?;
@@ -772,6 +785,9 @@ impl Walker {
             let level = Level::parse(s).map_err(|m| self.err(key.clone(), m))?;
             if level.is_date_level() && attr != Attr::BirthDate {
                 return Err(self.err(key, format!("`{level}` only applies to birth_date")));
+            }
+            if level == Level::LocalPart && attr != Attr::Email {
+                return Err(self.err(key, "`local_part` only applies to email"));
             }
             if levels.contains(&level) {
                 return Err(self.err(key, format!("`{level}` is listed twice")));

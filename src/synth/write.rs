@@ -120,7 +120,7 @@ birth_date = "date_of_birth"
 
 [[compare]]
 attribute = "family_name"
-levels = ["exact", "translit", "jaro_winkler >= 0.92", "jaro_winkler >= 0.80"]
+levels = ["exact", "translit", "jaro_winkler >= 0.92", "any_token", "jaro_winkler >= 0.80"]
 
 [[compare]]
 attribute = "given_name"
@@ -132,7 +132,7 @@ levels = ["exact", "date_swap", "date_one_digit", "same_year"]
 
 [[compare]]
 attribute = "email"
-levels = ["exact", "levenshtein <= 2"]
+levels = ["exact", "levenshtein <= 2", "local_part"]
 
 [[compare]]
 attribute = "phone"
