@@ -4,3 +4,4 @@ mod bad_input;
 mod common;
 mod evaluate;
 mod link;
+mod tricky;
