@@ -33,7 +33,7 @@ pub struct Args {
     /// outputs with `kinlink merge`.
     #[arg(long, value_name = "I/N", value_parser = parse_shard)]
     pub shard: Option<(usize, usize)>,
-    /// Print the time spent per stage.
+    /// Print the time spent per stage (also with --quiet).
     #[arg(long)]
     pub timings: bool,
 }
@@ -104,6 +104,9 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let summary = pipeline::run(&spec, &opts)?;
     if !global.quiet {
         summary::print(&summary, args.timings);
+    } else if args.timings {
+        // --timings is an explicit request; --quiet silences the rest.
+        summary::print_timings(&summary.timings);
     }
     if let Some(truth) = &args.truth {
         summary::print_actual(truth, &args.out, &summary, global)?;

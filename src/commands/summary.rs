@@ -104,12 +104,8 @@ pub fn print(s: &RunSummary, timings: bool) {
         println!("  merges refused by guards: {}", s.refused_merges);
     }
     if timings {
-        println!("\nTimings");
-        for (stage, d) in &s.timings.stages {
-            println!("  {:<24} {:>9.3} s", stage, d.as_secs_f64());
-        }
-        let total: f64 = s.timings.stages.iter().map(|(_, d)| d.as_secs_f64()).sum();
-        println!("  {:<24} {:>9.3} s", "total", total);
+        println!();
+        print_timings(&s.timings);
     }
     println!("\nOutputs");
     for p in &s.outputs {
@@ -154,4 +150,14 @@ pub fn print_actual(
     }
     print!("{}", super::evaluate::render_table(&metrics));
     Ok(())
+}
+
+/// The time spent per stage, as a table.
+pub fn print_timings(t: &kinlink::pipeline::Timings) {
+    println!("Timings");
+    for (stage, d) in &t.stages {
+        println!("  {:<24} {:>9.3} s", stage, d.as_secs_f64());
+    }
+    let total: f64 = t.stages.iter().map(|(_, d)| d.as_secs_f64()).sum();
+    println!("  {:<24} {:>9.3} s", "total", total);
 }
