@@ -432,6 +432,11 @@ impl SynthConfig {
     /// Validate the settings: rates in `[0, 1]`, source shares summing to at most 1,
     /// at most [`MAX_CUSTOMERS`] customers.
     pub fn check(&self) -> crate::Result<()> {
+        if self.customers == 0 {
+            return Err(crate::Error::Usage(
+                "`--customers 0`: generate at least one customer".into(),
+            ));
+        }
         if self.customers > MAX_CUSTOMERS {
             return Err(crate::Error::Usage(format!(
                 "`--customers {}` is more than the generator supports ({MAX_CUSTOMERS})",
