@@ -305,8 +305,8 @@ fn cluster_and_write(
     let keys = crate::keys::assign(table, &clusters.label);
     let mut w = staging.csv("crosswalk.csv")?;
     w.row(&["source", "source_id", "customer_key"])?;
-    for (r, key) in keys.iter().enumerate() {
-        w.row(&[table.source_name(r), table.id[r].as_str(), key.as_str()])?;
+    for r in 0..table.len() {
+        w.row(&[table.source_name(r), table.id[r].as_str(), keys.key(r)])?;
     }
     w.finish()?;
     let mut w = staging.csv("refused.csv")?;

@@ -6,32 +6,52 @@
 //! clusters, and it stays the same when unrelated records are added. Hash collisions are
 //! resolved deterministically by rehashing with a counter, in anchor order.
 
-use std::collections::{HashMap, HashSet};
+use std::collections::HashSet;
 
 use crate::record::RecordTable;
 use crate::util::stable_hash;
 
-/// Customer key per record, given each record's cluster label (any id shared by the
-/// members of a cluster).
-pub fn assign(table: &RecordTable, label: &[u32]) -> Vec<String> {
-    // Anchor of each cluster: the smallest (source name, id).
-    let mut anchor: HashMap<u32, usize> = HashMap::new();
-    for (r, &l) in label.iter().enumerate() {
-        anchor
-            .entry(l)
-            .and_modify(|a| {
-                if record_order(table, r) < record_order(table, *a) {
-                    *a = r;
-                }
-            })
-            .or_insert(r);
+/// Customer keys of a run: one per cluster, and each record's cluster.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Keys {
+    /// Distinct keys, one per cluster, in anchor order.
+    pub keys: Vec<String>,
+    /// Per record, the index of its key in `keys`.
+    pub of_record: Vec<u32>,
+}
+
+impl Keys {
+    /// The key of record `r`.
+    pub fn key(&self, r: usize) -> &str {
+        &self.keys[self.of_record[r] as usize]
     }
-    let mut anchors: Vec<(u32, usize)> = anchor.into_iter().collect();
-    anchors.sort_by(|x, y| record_order(table, x.1).cmp(&record_order(table, y.1)));
+}
+
+/// Customer keys, given each record's cluster label (any id below the number of records
+/// shared by the members of a cluster, e.g. the smallest member).
+pub fn assign(table: &RecordTable, label: &[u32]) -> Keys {
+    const NONE: u32 = u32::MAX;
+    // Anchor of each cluster: the member with the smallest (source name, id).
+    let mut anchor = vec![NONE; label.len()];
+    for (r, &l) in label.iter().enumerate() {
+        let a = &mut anchor[l as usize];
+        if *a == NONE || record_order(table, r) < record_order(table, *a as usize) {
+            *a = r as u32;
+        }
+    }
+    let mut anchors: Vec<(u32, u32)> = anchor
+        .iter()
+        .enumerate()
+        .filter(|(_, a)| **a != NONE)
+        .map(|(l, &a)| (l as u32, a))
+        .collect();
+    anchors
+        .sort_by(|x, y| record_order(table, x.1 as usize).cmp(&record_order(table, y.1 as usize)));
     let mut used: HashSet<String> = HashSet::with_capacity(anchors.len());
-    let mut key_of: HashMap<u32, String> = HashMap::with_capacity(anchors.len());
+    let mut index_of_label = vec![NONE; label.len()];
+    let mut keys = Vec::with_capacity(anchors.len());
     for (l, a) in anchors {
-        let (source, id) = record_order(table, a);
+        let (source, id) = record_order(table, a as usize);
         let mut salt = 0u32;
         let key = loop {
             let k = key_for(source, id, salt);
@@ -40,9 +60,11 @@ pub fn assign(table: &RecordTable, label: &[u32]) -> Vec<String> {
             }
             salt += 1;
         };
-        key_of.insert(l, key);
+        index_of_label[l as usize] = keys.len() as u32;
+        keys.push(key);
     }
-    label.iter().map(|l| key_of[l].clone()).collect()
+    let of_record = label.iter().map(|&l| index_of_label[l as usize]).collect();
+    Keys { keys, of_record }
 }
 
 fn record_order(table: &RecordTable, r: usize) -> (&str, &str) {
@@ -85,7 +107,8 @@ mod tests {
     #[test]
     fn keys_follow_the_anchor_not_the_order() {
         let t = table(&[(1, "9"), (0, "5"), (0, "7"), (1, "1")]);
-        let keys = assign(&t, &[0, 0, 2, 2]);
+        let k = assign(&t, &[0, 0, 2, 2]);
+        let keys: Vec<&str> = (0..4).map(|r| k.key(r)).collect();
         assert_eq!(keys[0], keys[1]);
         assert_eq!(keys[2], keys[3]);
         assert_ne!(keys[0], keys[2]);
@@ -93,7 +116,8 @@ mod tests {
         assert_eq!(keys[2], key_for("crm", "7", 0));
         // Same clusters, other labels and record order: same keys.
         let t2 = table(&[(0, "7"), (1, "1"), (1, "9"), (0, "5")]);
-        let keys2 = assign(&t2, &[8, 8, 3, 3]);
+        let k2 = assign(&t2, &[1, 1, 3, 3]);
+        let keys2: Vec<&str> = (0..4).map(|r| k2.key(r)).collect();
         assert_eq!(keys2[0], keys[2]);
         assert_eq!(keys2[3], keys[0]);
         assert_eq!(keys[0].len(), 13);
