@@ -14,7 +14,7 @@
 //! interned again, so a record's key is a small integer. Work is cut into [`Task`]s (a
 //! block, or a slice of a large block's rows) that callers run in parallel.
 
-use std::collections::HashMap;
+use rustc_hash::FxHashMap as HashMap;
 
 use rphonetic::{Encoder, Soundex};
 
@@ -107,23 +107,27 @@ pub struct Blocking {
 impl Blocking {
     /// Build the blocks of every key; refuse a key with more than `max_pairs` pairs.
     pub fn build(table: &RecordTable, specs: &[BlockSpec], max_pairs: u64) -> Result<Blocking> {
-        let mut derived: HashMap<KeyPart, Vec<u32>> = HashMap::new();
-        let mut derived_values: HashMap<KeyPart, Vec<String>> = HashMap::new();
-        let mut keys = Vec::with_capacity(specs.len());
-        for spec in specs {
-            for part in &spec.keys {
-                if !derived.contains_key(part) {
-                    let (ids, values) = derive(table.column(part.attr), part.func);
-                    derived.insert(*part, ids);
-                    derived_values.insert(*part, values);
-                }
-            }
-            let parts: Vec<(&Vec<u32>, &Vec<String>, &Column)> = spec
-                .keys
-                .iter()
-                .map(|p| (&derived[p], &derived_values[p], table.column(p.attr)))
-                .collect();
-            let kb = key_blocks(table.len(), &spec.name, &parts);
+        use rayon::prelude::*;
+        // Each distinct key part is derived once, in parallel; then each key.
+        let mut parts: Vec<KeyPart> = specs.iter().flat_map(|s| s.keys.iter().copied()).collect();
+        parts.sort_by_key(|p| (p.attr, format!("{p}")));
+        parts.dedup();
+        let derived: HashMap<KeyPart, (Vec<u32>, Vec<String>)> = parts
+            .par_iter()
+            .map(|p| (*p, derive(table.column(p.attr), p.func)))
+            .collect();
+        let keys: Vec<KeyBlocks> = specs
+            .par_iter()
+            .map(|spec| {
+                let parts: Vec<(&Vec<u32>, &Vec<String>, &Column)> = spec
+                    .keys
+                    .iter()
+                    .map(|p| (&derived[p].0, &derived[p].1, table.column(p.attr)))
+                    .collect();
+                key_blocks(table.len(), &spec.name, &parts)
+            })
+            .collect();
+        for (spec, kb) in specs.iter().zip(&keys) {
             let pairs = kb.raw_pairs();
             if pairs > max_pairs {
                 let top = kb
@@ -143,7 +147,6 @@ impl Blocking {
                     ),
                 });
             }
-            keys.push(kb);
         }
         Ok(Blocking { keys })
     }
@@ -224,7 +227,7 @@ impl Blocking {
 /// the distinct derived strings.
 fn derive(column: &Column, func: KeyFn) -> (Vec<u32>, Vec<String>) {
     let soundex = Soundex::default();
-    let mut lookup: HashMap<String, u32> = HashMap::new();
+    let mut lookup: HashMap<String, u32> = HashMap::default();
     let mut values = Vec::new();
     let ids = column
         .dict
@@ -284,7 +287,7 @@ pub fn key_value(value: &str, func: KeyFn, soundex: &Soundex) -> Option<String> 
 
 fn key_blocks(n: usize, name: &str, parts: &[(&Vec<u32>, &Vec<String>, &Column)]) -> KeyBlocks {
     // Combine the parts' derived ids into one key id per record.
-    let mut combined: HashMap<Vec<u32>, u32> = HashMap::new();
+    let mut combined: HashMap<Vec<u32>, u32> = HashMap::default();
     let mut values: Vec<String> = Vec::new();
     let mut key_of = vec![NO_KEY; n];
     let mut tuple = Vec::with_capacity(parts.len());
@@ -382,7 +385,7 @@ pub fn plan(blocking: &Blocking, entity: Option<&[u32]>, top: usize) -> Vec<KeyP
         let raw = kb.raw_pairs();
         let mut shared = 0u64;
         for earlier in &blocking.keys[..b] {
-            let mut both: HashMap<(u32, u32), u32> = HashMap::new();
+            let mut both: HashMap<(u32, u32), u32> = HashMap::default();
             for (x, y) in kb.key_of.iter().zip(&earlier.key_of) {
                 if *x != NO_KEY && *y != NO_KEY {
                     *both.entry((*x, *y)).or_insert(0) += 1;
@@ -403,7 +406,7 @@ pub fn plan(blocking: &Blocking, entity: Option<&[u32]>, top: usize) -> Vec<KeyP
     }
     if let Some(entity) = entity {
         // Records per entity; true pairs are enumerated within entities (small).
-        let mut members: HashMap<u32, Vec<u32>> = HashMap::new();
+        let mut members: HashMap<u32, Vec<u32>> = HashMap::default();
         for (r, &e) in entity.iter().enumerate() {
             members.entry(e).or_default().push(r as u32);
         }
