@@ -174,18 +174,10 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         Some(m) => (m, false),
         None => {
             let bar = Progress::bar(opts.progress, "count vectors", tasks.len() as u64, "tasks");
-            let c = count_patterns(spec, &table, &blocking, &comparison, &tasks, &bar)?;
+            let (m, c) = fit_model(spec, &table, &blocking, &comparison, &tasks, &bar, &mut t)?;
             bar.finish();
-            clock = t.record("compare (count vectors)", clock);
-            let (u, u_pairs) = model::estimate_u(
-                &table,
-                &comparison,
-                spec.model.u_sample_pairs,
-                spec.model.seed,
-            );
-            let m = model::fit(spec, &comparison, table.len() as u64, &c, u, u_pairs)?;
             counts = Some(c);
-            clock = t.record("fit (EM)", clock);
+            clock = Instant::now();
             (m, true)
         }
     };
@@ -456,6 +448,30 @@ fn guards_of(spec: &Spec, table: &RecordTable) -> Guards {
             .map(|a| table.column(*a).ids.clone())
             .collect(),
     }
+}
+
+/// Pass 1 and the fit: count comparison vectors, estimate u, fit the model.
+fn fit_model(
+    spec: &Spec,
+    table: &RecordTable,
+    blocking: &Blocking,
+    comparison: &Comparison,
+    tasks: &[Task],
+    progress: &Progress,
+    t: &mut Timings,
+) -> Result<(Model, Vec<KeyCounts>)> {
+    let clock = Instant::now();
+    let counts = count_patterns(spec, table, blocking, comparison, tasks, progress)?;
+    let clock = t.record("compare (count vectors)", clock);
+    let (u, u_pairs) = model::estimate_u(
+        table,
+        comparison,
+        spec.model.u_sample_pairs,
+        spec.model.seed,
+    );
+    let model = model::fit(spec, comparison, table.len() as u64, &counts, u, u_pairs)?;
+    t.record("fit (EM)", clock);
+    Ok((model, counts))
 }
 
 /// Pass 1: comparison vector counts per blocking key.
@@ -851,24 +867,16 @@ pub fn train(spec: &Spec) -> Result<TrainSummary> {
     let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
     let comparison = Comparison::new(&spec.compares, &table);
     let tasks = blocking.tasks();
-    let clock = t.record("block", clock);
-    let counts = count_patterns(
+    t.record("block", clock);
+    let (model, _) = fit_model(
         spec,
         &table,
         &blocking,
         &comparison,
         &tasks,
         &Progress::hidden(),
+        &mut t,
     )?;
-    let clock = t.record("compare (count vectors)", clock);
-    let (u, u_pairs) = model::estimate_u(
-        &table,
-        &comparison,
-        spec.model.u_sample_pairs,
-        spec.model.seed,
-    );
-    let model = model::fit(spec, &comparison, table.len() as u64, &counts, u, u_pairs)?;
-    t.record("fit (EM)", clock);
     Ok(TrainSummary {
         model,
         sources: loaded.reports,
@@ -1007,29 +1015,17 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
     }
     let n = table.len() as u64;
     let all = (n * n.saturating_sub(1) / 2).max(1) as f64;
-    let attribute: Vec<model::AttrModel> = comparison
-        .comparators
+    let m: Vec<Vec<f64>> = counts
         .iter()
-        .enumerate()
-        .map(|(kk, c)| {
-            let row = &counts[kk];
+        .map(|row| {
             let total: u64 = row.iter().sum();
             let denom = total as f64 + model::M_SMOOTHING * row.len() as f64;
-            let m: Vec<f64> = row
-                .iter()
+            row.iter()
                 .map(|&x| (x as f64 + model::M_SMOOTHING) / denom)
-                .collect();
-            let weight = m.iter().zip(&u[kk]).map(|(m, u)| (m / u).log2()).collect();
-            model::AttrModel {
-                attribute: c.attr.name().to_string(),
-                levels: c.names.clone(),
-                m,
-                u: u[kk].clone(),
-                weight,
-                frequency: spec.compares[kk].frequency,
-            }
+                .collect()
         })
         .collect();
+    let attribute = model::attr_models(spec, &comparison, &m, &u);
     let warnings = model::level_warnings(&attribute);
     let fitted = Model {
         format: "kinlink-model".into(),

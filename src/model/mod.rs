@@ -222,6 +222,32 @@ impl Model {
     }
 }
 
+/// Per attribute parameters and weights from m and u tables.
+pub fn attr_models(
+    spec: &Spec,
+    comparison: &Comparison,
+    m: &[Vec<f64>],
+    u: &[Vec<f64>],
+) -> Vec<AttrModel> {
+    comparison
+        .comparators
+        .iter()
+        .enumerate()
+        .map(|(k, c)| AttrModel {
+            attribute: c.attr.name().to_string(),
+            levels: c.names.clone(),
+            m: m[k].clone(),
+            u: u[k].clone(),
+            weight: m[k]
+                .iter()
+                .zip(&u[k])
+                .map(|(m, u)| (m.max(1e-12) / u).log2())
+                .collect(),
+            frequency: spec.compares[k].frequency,
+        })
+        .collect()
+}
+
 /// Warnings for agreement levels (all but `disagree`) whose m is below their u: there,
 /// agreement would count as evidence against a match, which usually means a level that is
 /// too loose, or too little data.
@@ -798,27 +824,7 @@ pub fn fit(
     }
     let all_pairs = (records * records.saturating_sub(1) / 2).max(1) as f64;
     let lambda = (expected / all_pairs).clamp(1e-12, 0.5);
-    let attribute: Vec<AttrModel> = comparison
-        .comparators
-        .iter()
-        .enumerate()
-        .map(|(k, c)| {
-            let m = m_final[k].clone();
-            let weight = m
-                .iter()
-                .zip(&u[k])
-                .map(|(m, u)| (m.max(1e-12) / u).log2())
-                .collect();
-            AttrModel {
-                attribute: c.attr.name().to_string(),
-                levels: c.names.clone(),
-                m,
-                u: u[k].clone(),
-                weight,
-                frequency: spec.compares[k].frequency,
-            }
-        })
-        .collect();
+    let attribute = attr_models(spec, comparison, &m_final, &u);
     warnings.extend(level_warnings(&attribute));
     Ok(Model {
         warnings,
