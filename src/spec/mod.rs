@@ -565,56 +565,30 @@ impl Walker {
             }
         }
         let dir = path.parent().map(Path::to_path_buf).unwrap_or_default();
-        let mut sources = Vec::new();
-        for (i, s) in self.tables(t, "source")?.into_iter().enumerate() {
-            let src = self.source(s, &format!("source[{}]", i + 1), &dir)?;
-            if sources.iter().any(|o: &SourceSpec| o.name == src.name) {
-                return Err(self.err(
-                    format!("source[{}].name", i + 1),
-                    format!(
-                        "`{}` is used by two sources; names must be unique",
-                        src.name
-                    ),
-                ));
-            }
-            sources.push(src);
-        }
-        if sources.is_empty() {
-            return Err(self.err("source", "at least one [[source]] is required"));
-        }
-        let mut compares: Vec<CompareSpec> = Vec::new();
-        for (i, c) in self.tables(t, "compare")?.into_iter().enumerate() {
-            let at = format!("compare[{}]", i + 1);
-            let cmp = self.compare(c, &at)?;
-            if compares.iter().any(|o| o.attr == cmp.attr) {
-                return Err(self.err(
-                    format!("{at}.attribute"),
-                    format!("`{}` is compared twice; merge the two entries", cmp.attr),
-                ));
-            }
-            compares.push(cmp);
-        }
-        if compares.is_empty() {
-            return Err(self.err("compare", "at least one [[compare]] is required"));
-        }
-        let mut blocks: Vec<BlockSpec> = Vec::new();
-        for (i, b) in self.tables(t, "block")?.into_iter().enumerate() {
-            let at = format!("block[{}]", i + 1);
-            let blk = self.block(b, &at)?;
-            if blocks.iter().any(|o| o.name == blk.name) {
-                return Err(self.err(
-                    format!("{at}.name"),
-                    format!(
-                        "`{}` is used by two blocking keys; names must be unique",
-                        blk.name
-                    ),
-                ));
-            }
-            blocks.push(blk);
-        }
-        if blocks.is_empty() {
-            return Err(self.err("block", "at least one [[block]] is required"));
-        }
+        let sources = self.unique_list(
+            t,
+            "source",
+            "name",
+            |w, s, at| w.source(s, at, &dir),
+            |s| s.name.clone(),
+            "is used by two sources; names must be unique",
+        )?;
+        let compares = self.unique_list(
+            t,
+            "compare",
+            "attribute",
+            |w, c, at| w.compare(c, at),
+            |c| c.attr.to_string(),
+            "is compared twice; merge the two entries",
+        )?;
+        let blocks = self.unique_list(
+            t,
+            "block",
+            "name",
+            |w, b, at| w.block(b, at),
+            |b| b.name.clone(),
+            "is used by two blocking keys; names must be unique",
+        )?;
         for (i, b) in blocks.iter().enumerate() {
             for k in &b.keys {
                 if !sources.iter().any(|s| s.provides(k.attr)) {
@@ -640,6 +614,32 @@ impl Walker {
             model,
             cluster,
         })
+    }
+
+    /// A non-empty `[[name]]` list whose entries are unique by `key` (checked at `field`).
+    fn unique_list<T>(
+        &self,
+        t: &Table,
+        name: &str,
+        field: &str,
+        parse: impl Fn(&Walker, &Table, &str) -> Result<T>,
+        key: impl Fn(&T) -> String,
+        duplicate: &str,
+    ) -> Result<Vec<T>> {
+        let mut items: Vec<T> = Vec::new();
+        for (i, entry) in self.tables(t, name)?.into_iter().enumerate() {
+            let at = format!("{name}[{}]", i + 1);
+            let item = parse(self, entry, &at)?;
+            let k = key(&item);
+            if items.iter().any(|o| key(o) == k) {
+                return Err(self.err(format!("{at}.{field}"), format!("`{k}` {duplicate}")));
+            }
+            items.push(item);
+        }
+        if items.is_empty() {
+            return Err(self.err(name, format!("at least one [[{name}]] is required")));
+        }
+        Ok(items)
     }
 
     fn source(&self, t: &Table, at: &str, dir: &Path) -> Result<SourceSpec> {
@@ -1184,6 +1184,22 @@ unique = ["email"]
         let (k, m) = err_of(&GOOD.replace("[model]", "[model]\nsed = 3"));
         assert_eq!(k, "model.sed");
         assert!(m.contains("seed"), "{m}");
+    }
+
+    #[test]
+    fn duplicates_and_empty_lists_are_named() {
+        let twice = GOOD.replace("attribute = \"birth_date\"", "attribute = \"family_name\"");
+        let (k, m) = err_of(&twice.replace("\"date_swap\", \"same_year\"", "\"translit\""));
+        assert_eq!(k, "compare[2].attribute");
+        assert!(m.contains("`family_name` is compared twice"), "{m}");
+        let (k, m) = err_of(&GOOD.replace("name = \"shop\"", "name = \"crm\""));
+        assert_eq!(k, "source[2].name");
+        assert!(m.contains("two sources"), "{m}");
+        let start = GOOD.find("[[block]]").unwrap();
+        let end = GOOD.find("[classify]").unwrap();
+        let (k, m) = err_of(&format!("{}{}", &GOOD[..start], &GOOD[end..]));
+        assert_eq!(k, "block");
+        assert!(m.contains("at least one [[block]]"), "{m}");
     }
 
     #[test]
