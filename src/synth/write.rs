@@ -144,7 +144,7 @@ levels = ["exact"]
 
 [[compare]]
 attribute = "city"
-levels = ["exact", "jaro_winkler >= 0.90"]
+levels = ["exact", "translit", "jaro_winkler >= 0.90"]
 
 [[compare]]
 attribute = "street"
