@@ -5,8 +5,10 @@
 //! value interned once, so that later stages compare small integer ids.
 
 use rayon::prelude::*;
-use rustc_hash::FxHashMap as HashMap;
+use rustc_hash::FxBuildHasher;
+use std::collections::hash_map::Entry;
 use std::fmt;
+use std::hash::{BuildHasher, BuildHasherDefault, Hash, Hasher};
 
 /// The standard attributes a source column can be mapped to.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
@@ -218,15 +220,69 @@ impl RecordTable {
     }
 }
 
+/// A value with its hash, computed once where the value is made (in parallel) and
+/// reused by the dictionary for lookups and when it grows.
+#[derive(Debug, Clone)]
+struct Hashed {
+    hash: u64,
+    value: String,
+}
+
+impl Hashed {
+    fn new(value: String) -> Self {
+        Hashed {
+            hash: FxBuildHasher.hash_one(value.as_str()),
+            value,
+        }
+    }
+}
+
+impl PartialEq for Hashed {
+    fn eq(&self, other: &Self) -> bool {
+        self.hash == other.hash && self.value == other.value
+    }
+}
+
+impl Eq for Hashed {}
+
+impl Hash for Hashed {
+    fn hash<H: Hasher>(&self, state: &mut H) {
+        state.write_u64(self.hash);
+    }
+}
+
+/// Hasher for [`Hashed`]: passes the stored hash through.
+#[derive(Default)]
+struct StoredHash(u64);
+
+impl Hasher for StoredHash {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+
+    fn write(&mut self, bytes: &[u8]) {
+        // Only `write_u64` is used by `Hashed`; fold anything else in for completeness.
+        for &b in bytes {
+            self.0 = self.0.rotate_left(5) ^ u64::from(b);
+        }
+    }
+
+    fn write_u64(&mut self, v: u64) {
+        self.0 = v;
+    }
+}
+
+type Dictionary = std::collections::HashMap<Hashed, ValueId, BuildHasherDefault<StoredHash>>;
+
 /// Standardized records of one source, stored column-wise, waiting to be interned.
 ///
-/// Parallel standardization fills one batch per task; [`RecordTableBuilder::append`]
-/// interns a sequence of batches in order.
+/// Parallel standardization fills one batch per task (hashing the values there);
+/// [`RecordTableBuilder::append`] interns a sequence of batches in order.
 #[derive(Debug, Clone)]
 pub struct RecordBatch {
     source: u16,
     ids: Vec<String>,
-    values: [Vec<Option<String>>; Attr::COUNT],
+    values: [Vec<Option<Hashed>>; Attr::COUNT],
 }
 
 impl RecordBatch {
@@ -243,7 +299,7 @@ impl RecordBatch {
     pub fn push(&mut self, id: String, record: StdRecord) {
         self.ids.push(id);
         for (col, value) in self.values.iter_mut().zip(record.values) {
-            col.push(value);
+            col.push(value.map(Hashed::new));
         }
     }
 
@@ -264,7 +320,7 @@ impl RecordBatch {
 struct ColumnBuilder {
     ids: Vec<ValueId>,
     counts: Vec<u32>,
-    lookup: HashMap<String, ValueId>,
+    lookup: Dictionary,
 }
 
 impl ColumnBuilder {
@@ -272,19 +328,19 @@ impl ColumnBuilder {
         ColumnBuilder {
             ids: Vec::new(),
             counts: vec![0],
-            lookup: HashMap::default(),
+            lookup: Dictionary::default(),
         }
     }
 
     /// Intern `value` (new values get the next id, in order of first appearance).
-    fn push(&mut self, value: Option<String>) {
+    fn push(&mut self, value: Option<Hashed>) {
         let vid = match value {
             None => MISSING,
             Some(v) => {
                 let next = self.counts.len() as ValueId;
                 match self.lookup.entry(v) {
-                    std::collections::hash_map::Entry::Occupied(e) => *e.get(),
-                    std::collections::hash_map::Entry::Vacant(e) => {
+                    Entry::Occupied(e) => *e.get(),
+                    Entry::Vacant(e) => {
                         e.insert(next);
                         self.counts.push(0);
                         next
@@ -298,8 +354,8 @@ impl ColumnBuilder {
 
     fn finish(self) -> Column {
         let mut dict = vec![String::new(); self.counts.len()];
-        for (value, id) in self.lookup {
-            dict[id as usize] = value;
+        for (key, id) in self.lookup {
+            dict[id as usize] = key.value;
         }
         Column {
             ids: self.ids,
@@ -317,6 +373,9 @@ pub struct RecordTableBuilder {
     source: Vec<u16>,
     id: Vec<String>,
     columns: Vec<ColumnBuilder>,
+    /// Records announced by [`RecordTableBuilder::expect`], not yet used for sizing
+    /// the dictionaries.
+    expected: Option<usize>,
 }
 
 impl RecordTableBuilder {
@@ -327,7 +386,18 @@ impl RecordTableBuilder {
             source: Vec::new(),
             id: Vec::new(),
             columns: (0..Attr::COUNT).map(|_| ColumnBuilder::new()).collect(),
+            expected: None,
         }
+    }
+
+    /// Announce that about `rows` more records will follow: the record vectors are
+    /// reserved now, each column's dictionary after the next [`append`], from the
+    /// share of new values in it. Only a hint: more or fewer records may follow.
+    ///
+    /// [`append`]: RecordTableBuilder::append
+    pub fn expect(&mut self, rows: usize) {
+        self.reserve(rows);
+        self.expected = Some(rows);
     }
 
     /// Make room for `additional` more records (avoids regrowing large vectors).
@@ -359,7 +429,7 @@ impl RecordTableBuilder {
         self.source.push(source);
         self.id.push(id);
         for (col, value) in self.columns.iter_mut().zip(record.values) {
-            col.push(value);
+            col.push(value.map(Hashed::new));
         }
     }
 
@@ -367,7 +437,7 @@ impl RecordTableBuilder {
     /// the result is the same as pushing the records one by one.
     pub fn append(&mut self, batches: Vec<RecordBatch>) {
         let rows: usize = batches.iter().map(RecordBatch::len).sum();
-        let mut per_column: Vec<Vec<Vec<Option<String>>>> = (0..Attr::COUNT)
+        let mut per_column: Vec<Vec<Vec<Option<Hashed>>>> = (0..Attr::COUNT)
             .map(|_| Vec::with_capacity(batches.len()))
             .collect();
         self.source.reserve(rows);
@@ -382,6 +452,7 @@ impl RecordTableBuilder {
             }
         }
         let id = &mut self.id;
+        let expected = self.expected.take();
         rayon::join(
             || {
                 for part in ids {
@@ -394,10 +465,18 @@ impl RecordTableBuilder {
                     .zip(per_column)
                     .for_each(|(col, parts)| {
                         col.ids.reserve(rows);
+                        let before = col.counts.len();
                         for part in parts {
                             for value in part {
                                 col.push(value);
                             }
+                        }
+                        if let Some(more) = expected {
+                            // New values in this append, extrapolated to the rest.
+                            let new = (col.counts.len() - before) as f64 / rows.max(1) as f64;
+                            let extra = (new * more.saturating_sub(rows) as f64) as usize;
+                            col.lookup.reserve(extra);
+                            col.counts.reserve(extra);
                         }
                     })
             },

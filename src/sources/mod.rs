@@ -87,13 +87,7 @@ fn load_chunked(
     let sizes = Sizes {
         chunk_rows: chunk_rows.max(1),
         task_rows: task_rows.max(1),
-        rest_bytes: spec
-            .sources
-            .iter()
-            .map(|s| std::fs::metadata(&s.path).map_or(0, |m| m.len()))
-            .sum(),
     };
-    let mut sizes = sizes;
     for (i, src) in spec.sources.iter().enumerate() {
         let report = load_source(
             src,
@@ -102,7 +96,7 @@ fn load_chunked(
             &mut rejects,
             &mut stats,
             progress,
-            &mut sizes,
+            &sizes,
         )?;
         reports.push(report);
     }
@@ -114,12 +108,10 @@ fn load_chunked(
     })
 }
 
-/// Chunking parameters and what is left to read (for reserving memory up front).
+/// Rows per chunk and per standardization task.
 struct Sizes {
     chunk_rows: usize,
     task_rows: usize,
-    /// Bytes of the sources not read yet (file sizes).
-    rest_bytes: u64,
 }
 
 /// Rows that passed the checks, waiting to be standardized: the trimmed id and mapped
@@ -165,15 +157,14 @@ impl SourceReader<'_> {
         });
     }
 
-    /// Read up to `rows` usable rows; rejected rows go to `self.rejects`.
-    fn read_chunk(&mut self, rows: usize) -> RawChunk {
-        let per_row = 1 + self.mapped.len();
-        let mut chunk = RawChunk {
-            text: String::with_capacity(rows * 64),
-            spans: Vec::with_capacity(rows * per_row),
-            lines: Vec::with_capacity(rows),
-            bytes: 0,
-        };
+    /// Read up to `rows` usable rows into `chunk` (cleared first, its buffers reused);
+    /// rejected rows go to `self.rejects`.
+    fn read_chunk(&mut self, rows: usize, mut chunk: RawChunk) -> RawChunk {
+        chunk.text.clear();
+        chunk.spans.clear();
+        chunk.lines.clear();
+        chunk.spans.reserve(rows * (1 + self.mapped.len()));
+        chunk.lines.reserve(rows);
         let start_byte = self.reader.position().byte();
         while !self.done && chunk.rows() < rows {
             self.read_row(&mut chunk);
@@ -209,12 +200,16 @@ impl SourceReader<'_> {
             self.reject(line, reason);
             return;
         }
-        if !record.as_slice().is_ascii() {
-            if let Some((col, _)) = record
-                .iter()
-                .enumerate()
-                .find(|(_, f)| std::str::from_utf8(f).is_err())
-            {
+        // The fields are valid UTF-8 each when the whole row is and no field boundary
+        // falls inside a character.
+        let slice = record.as_slice();
+        let whole = match std::str::from_utf8(slice) {
+            Ok(w) if slice.is_ascii() || all_on_char_boundaries(record, w) => w,
+            _ => {
+                let col = record
+                    .iter()
+                    .position(|f| std::str::from_utf8(f).is_err())
+                    .unwrap_or(0);
                 let reason = format!(
                     "invalid UTF-8 in column `{}` (field {}); re-export the file as UTF-8",
                     self.headers[col],
@@ -223,8 +218,14 @@ impl SourceReader<'_> {
                 self.reject(line, reason);
                 return;
             }
-        }
-        let field = |i: usize| std::str::from_utf8(&record[i]).unwrap_or_default().trim();
+        };
+        let field = |i: usize| {
+            record
+                .range(i)
+                .and_then(|r| whole.get(r))
+                .unwrap_or_default()
+                .trim()
+        };
         let id = field(self.id_at);
         if id.is_empty() {
             let reason = format!("empty id in column `{}`", self.src.id_column);
@@ -244,6 +245,16 @@ impl SourceReader<'_> {
     }
 }
 
+/// True when every field of `record` starts and ends on a character boundary of
+/// `whole`, the record's bytes as a string.
+fn all_on_char_boundaries(record: &csv::ByteRecord, whole: &str) -> bool {
+    (0..record.len()).all(|i| {
+        record
+            .range(i)
+            .is_some_and(|r| whole.is_char_boundary(r.start) && whole.is_char_boundary(r.end))
+    })
+}
+
 fn load_source(
     src: &SourceSpec,
     index: u16,
@@ -251,7 +262,7 @@ fn load_source(
     rejects: &mut Vec<Reject>,
     stats: &mut StdStats,
     progress: &Progress,
-    sizes: &mut Sizes,
+    sizes: &Sizes,
 ) -> Result<SourceReport> {
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
@@ -286,15 +297,14 @@ fn load_source(
     let first_row = builder.len();
     let mut lines: Vec<u64> = Vec::new();
     let conv = &src.conventions;
-    let mut current = input.read_chunk(sizes.chunk_rows);
+    let mut current = input.read_chunk(sizes.chunk_rows, RawChunk::default());
     // Reserve for the rest of the input, estimated from the first chunk's bytes per row.
     if current.rows() > 0 && current.bytes > 0 {
-        let per_row = current.bytes as f64 / current.rows() as f64;
-        let estimate = (sizes.rest_bytes as f64 / per_row * 1.02) as usize;
-        builder.reserve(estimate.saturating_sub(builder.len() - first_row));
-        lines.reserve(((file_bytes as f64 / per_row) * 1.02) as usize);
+        let rows = (file_bytes as f64 * current.rows() as f64 / current.bytes as f64) as usize;
+        builder.expect(rows);
+        lines.reserve(rows);
     }
-    sizes.rest_bytes = sizes.rest_bytes.saturating_sub(file_bytes);
+    let mut spare = RawChunk::default();
     let mut pending: Option<Vec<RecordBatch>> = None;
     // Pipeline: read chunk k+1, standardize chunk k and intern chunk k-1 at once.
     while current.rows() > 0 || pending.is_some() {
@@ -307,7 +317,7 @@ fn load_source(
                         if input.done {
                             RawChunk::default()
                         } else {
-                            input.read_chunk(sizes.chunk_rows)
+                            input.read_chunk(sizes.chunk_rows, std::mem::take(&mut spare))
                         }
                     },
                     || standardize_chunk(&current, &attrs, index, conv, sizes.task_rows),
@@ -323,7 +333,7 @@ fn load_source(
         stats.merge(&chunk_stats);
         progress.inc(rows as u64);
         pending = (rows > 0).then_some(batches);
-        current = next;
+        spare = std::mem::replace(&mut current, next);
     }
     rejects.append(&mut input.rejects);
     let mut report = input.report;
