@@ -7,19 +7,23 @@
 //! that is unusable as a whole (missing, empty, unknown column, duplicate ids) is an
 //! error naming the file and what would fix it.
 
-use std::collections::HashMap;
 use std::path::Path;
 
 use rayon::prelude::*;
+use rustc_hash::FxHashMap;
 
 use crate::error::{Error, Result};
-use crate::record::{Attr, RecordTable, RecordTableBuilder, StdRecord};
+use crate::record::{Attr, RecordBatch, RecordTable, RecordTableBuilder, StdRecord};
 use crate::spec::{SourceSpec, Spec};
-use crate::standardize::{standardize, StdStats};
+use crate::standardize::{standardize, Conventions, StdStats};
 use crate::util::Progress;
 
-/// Rows standardized per parallel chunk.
+/// Rows read per chunk; one chunk is standardized while the next is read and the
+/// previous one is interned.
 const CHUNK: usize = 32 * 1024;
+
+/// Rows standardized per parallel task.
+const TASK_ROWS: usize = 1024;
 
 /// A row that was not used, with the reason.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -65,11 +69,25 @@ pub fn load(spec: &Spec) -> Result<Loaded> {
 
 /// [`load`], counting rows on `progress`.
 pub fn load_with(spec: &Spec, progress: &Progress) -> Result<Loaded> {
+    load_chunked(spec, progress, CHUNK, TASK_ROWS)
+}
+
+/// [`load_with`] with explicit chunk sizes; the result does not depend on them.
+fn load_chunked(
+    spec: &Spec,
+    progress: &Progress,
+    chunk_rows: usize,
+    task_rows: usize,
+) -> Result<Loaded> {
     let names = spec.sources.iter().map(|s| s.name.clone()).collect();
     let mut builder = RecordTableBuilder::new(names);
     let mut rejects = Vec::new();
     let mut reports = Vec::new();
     let mut stats = StdStats::default();
+    let sizes = Sizes {
+        chunk_rows: chunk_rows.max(1),
+        task_rows: task_rows.max(1),
+    };
     for (i, src) in spec.sources.iter().enumerate() {
         let report = load_source(
             src,
@@ -78,6 +96,7 @@ pub fn load_with(spec: &Spec, progress: &Progress) -> Result<Loaded> {
             &mut rejects,
             &mut stats,
             progress,
+            &sizes,
         )?;
         reports.push(report);
     }
@@ -89,10 +108,151 @@ pub fn load_with(spec: &Spec, progress: &Progress) -> Result<Loaded> {
     })
 }
 
-/// A row that passed the checks, waiting to be standardized.
-struct RawRow {
-    id: String,
-    raw: StdRecord,
+/// Rows per chunk and per standardization task.
+struct Sizes {
+    chunk_rows: usize,
+    task_rows: usize,
+}
+
+/// Rows that passed the checks, waiting to be standardized: the trimmed id and mapped
+/// fields of each row, in one buffer.
+#[derive(Default)]
+struct RawChunk {
+    text: String,
+    /// Per row, `1 + mapped` byte ranges into `text`: the id, then each mapped field.
+    spans: Vec<(usize, usize)>,
+    /// Per row, its line in the file.
+    lines: Vec<u64>,
+    /// Bytes of the file the chunk was read from (including rejected rows).
+    bytes: u64,
+}
+
+impl RawChunk {
+    fn rows(&self) -> usize {
+        self.lines.len()
+    }
+}
+
+/// A source file being read chunk by chunk.
+struct SourceReader<'a> {
+    src: &'a SourceSpec,
+    reader: csv::Reader<std::io::BufReader<std::fs::File>>,
+    headers: Vec<String>,
+    id_at: usize,
+    /// Mapped columns: attribute and field index.
+    mapped: Vec<(Attr, usize)>,
+    record: csv::ByteRecord,
+    report: SourceReport,
+    rejects: Vec<Reject>,
+    done: bool,
+}
+
+impl SourceReader<'_> {
+    fn reject(&mut self, line: u64, reason: String) {
+        self.report.rejected += 1;
+        self.rejects.push(Reject {
+            source: self.src.name.clone(),
+            line,
+            reason,
+        });
+    }
+
+    /// Read up to `rows` usable rows into `chunk` (cleared first, its buffers reused);
+    /// rejected rows go to `self.rejects`.
+    fn read_chunk(&mut self, rows: usize, mut chunk: RawChunk) -> RawChunk {
+        chunk.text.clear();
+        chunk.spans.clear();
+        chunk.lines.clear();
+        chunk.spans.reserve(rows * (1 + self.mapped.len()));
+        chunk.lines.reserve(rows);
+        let start_byte = self.reader.position().byte();
+        while !self.done && chunk.rows() < rows {
+            self.read_row(&mut chunk);
+        }
+        chunk.bytes = self.reader.position().byte() - start_byte;
+        chunk
+    }
+
+    fn read_row(&mut self, chunk: &mut RawChunk) {
+        let line_before = self.reader.position().line();
+        match self.reader.read_byte_record(&mut self.record) {
+            Ok(false) => {
+                self.done = true;
+                return;
+            }
+            Ok(true) => {}
+            Err(e) => {
+                self.report.rows += 1;
+                let line = e.position().map_or(line_before, |p| p.line());
+                self.reject(line, format!("unreadable CSV row: {e}"));
+                return;
+            }
+        }
+        self.report.rows += 1;
+        let record = &self.record;
+        let line = record.position().map_or(line_before, |p| p.line());
+        if record.len() != self.headers.len() {
+            let reason = format!(
+                "row has {} fields, the header has {}; check quoting and delimiters",
+                record.len(),
+                self.headers.len()
+            );
+            self.reject(line, reason);
+            return;
+        }
+        // The fields are valid UTF-8 each when the whole row is and no field boundary
+        // falls inside a character.
+        let slice = record.as_slice();
+        let whole = match std::str::from_utf8(slice) {
+            Ok(w) if slice.is_ascii() || all_on_char_boundaries(record, w) => w,
+            _ => {
+                let col = record
+                    .iter()
+                    .position(|f| std::str::from_utf8(f).is_err())
+                    .unwrap_or(0);
+                let reason = format!(
+                    "invalid UTF-8 in column `{}` (field {}); re-export the file as UTF-8",
+                    self.headers[col],
+                    col + 1
+                );
+                self.reject(line, reason);
+                return;
+            }
+        };
+        let field = |i: usize| {
+            record
+                .range(i)
+                .and_then(|r| whole.get(r))
+                .unwrap_or_default()
+                .trim()
+        };
+        let id = field(self.id_at);
+        if id.is_empty() {
+            let reason = format!("empty id in column `{}`", self.src.id_column);
+            self.reject(line, reason);
+            return;
+        }
+        let mut put = |v: &str| {
+            let start = chunk.text.len();
+            chunk.text.push_str(v);
+            chunk.spans.push((start, chunk.text.len()));
+        };
+        put(id);
+        for &(_, at) in &self.mapped {
+            put(field(at));
+        }
+        chunk.lines.push(line);
+    }
+}
+
+/// True when every field of `record` starts and ends on a character boundary of
+/// `whole`, the record's bytes as a string.
+fn all_on_char_boundaries(record: &csv::ByteRecord, whole: &str) -> bool {
+    (0..record.len()).all(|i| {
+        record
+            .range(i)
+            .is_some_and(|r| whole.is_char_boundary(r.start) && whole.is_char_boundary(r.end))
+    })
 }
 
 fn load_source(
@@ -102,102 +262,83 @@ fn load_source(
     rejects: &mut Vec<Reject>,
     stats: &mut StdStats,
     progress: &Progress,
+    sizes: &Sizes,
 ) -> Result<SourceReport> {
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let file_bytes = file.metadata().map_or(0, |m| m.len());
     let mut reader = csv::ReaderBuilder::new()
         .flexible(true)
         .has_headers(true)
         .from_reader(std::io::BufReader::with_capacity(1 << 20, file));
     let headers = read_headers(&mut reader, path)?;
     let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;
-    let mut mapped: Vec<(Attr, usize, &str)> = Vec::new();
+    let mut mapped: Vec<(Attr, usize)> = Vec::new();
     for (attr, header) in &src.columns {
         let at = find_column(&headers, header, path, &src.name, attr.name())?;
-        mapped.push((*attr, at, header.as_str()));
+        mapped.push((*attr, at));
     }
+    let attrs: Vec<Attr> = mapped.iter().map(|&(a, _)| a).collect();
+    let mut input = SourceReader {
+        src,
+        reader,
+        headers,
+        id_at,
+        mapped,
+        record: csv::ByteRecord::new(),
+        report: SourceReport {
+            name: src.name.clone(),
+            ..Default::default()
+        },
+        rejects: Vec::new(),
+        done: false,
+    };
 
-    let mut report = SourceReport {
-        name: src.name.clone(),
-        ..Default::default()
-    };
-    let mut first_line: HashMap<String, u64> = HashMap::new();
-    let mut duplicates: Vec<(String, u64, u64)> = Vec::new();
-    let mut chunk: Vec<RawRow> = Vec::with_capacity(CHUNK);
-    let mut record = csv::ByteRecord::new();
-    let mut reject = |line: u64, reason: String, report: &mut SourceReport| {
-        report.rejected += 1;
-        rejects.push(Reject {
-            source: src.name.clone(),
-            line,
-            reason,
-        });
-    };
-    loop {
-        let line_before = reader.position().line();
-        match reader.read_byte_record(&mut record) {
-            Ok(false) => break,
-            Ok(true) => {}
-            Err(e) => {
-                report.rows += 1;
-                let line = e.position().map_or(line_before, |p| p.line());
-                reject(line, format!("unreadable CSV row: {e}"), &mut report);
-                continue;
-            }
-        }
-        report.rows += 1;
-        let line = record.position().map_or(line_before, |p| p.line());
-        if record.len() != headers.len() {
-            let reason = format!(
-                "row has {} fields, the header has {}; check quoting and delimiters",
-                record.len(),
-                headers.len()
-            );
-            reject(line, reason, &mut report);
-            continue;
-        }
-        if let Some((col, _)) = record
-            .iter()
-            .enumerate()
-            .find(|(_, f)| std::str::from_utf8(f).is_err())
-        {
-            let reason = format!(
-                "invalid UTF-8 in column `{}` (field {}); re-export the file as UTF-8",
-                headers[col],
-                col + 1
-            );
-            reject(line, reason, &mut report);
-            continue;
-        }
-        let field = |i: usize| std::str::from_utf8(&record[i]).unwrap_or_default().trim();
-        let id = field(id_at);
-        if id.is_empty() {
-            let reason = format!("empty id in column `{}`", src.id_column);
-            reject(line, reason, &mut report);
-            continue;
-        }
-        if let Some(&first) = first_line.get(id) {
-            duplicates.push((id.to_string(), first, line));
-            continue;
-        }
-        first_line.insert(id.to_string(), line);
-        let mut raw = StdRecord::default();
-        for &(attr, at, _) in &mapped {
-            let v = field(at);
-            if !v.is_empty() {
-                raw.set(attr, Some(v.to_string()));
-            }
-        }
-        chunk.push(RawRow {
-            id: id.to_string(),
-            raw,
-        });
-        if chunk.len() == CHUNK {
-            progress.inc(CHUNK as u64);
-            flush(&mut chunk, src, index, builder, stats);
-        }
+    let first_row = builder.len();
+    let mut lines: Vec<u64> = Vec::new();
+    let conv = &src.conventions;
+    let mut current = input.read_chunk(sizes.chunk_rows, RawChunk::default());
+    // Reserve for the rest of the input, estimated from the first chunk's bytes per row.
+    if current.rows() > 0 && current.bytes > 0 {
+        let rows = (file_bytes as f64 * current.rows() as f64 / current.bytes as f64) as usize;
+        builder.expect(rows);
+        lines.reserve(rows);
     }
-    flush(&mut chunk, src, index, builder, stats);
+    let mut spare = RawChunk::default();
+    let mut pending: Option<Vec<RecordBatch>> = None;
+    // Pipeline: read chunk k+1, standardize chunk k and intern chunk k-1 at once.
+    while current.rows() > 0 || pending.is_some() {
+        let rows = current.rows();
+        lines.extend_from_slice(&current.lines);
+        let ((next, standardized), ()) = rayon::join(
+            || {
+                rayon::join(
+                    || {
+                        if input.done {
+                            RawChunk::default()
+                        } else {
+                            input.read_chunk(sizes.chunk_rows, std::mem::take(&mut spare))
+                        }
+                    },
+                    || standardize_chunk(&current, &attrs, index, conv, sizes.task_rows),
+                )
+            },
+            || {
+                if let Some(batches) = pending.take() {
+                    builder.append(batches);
+                }
+            },
+        );
+        let (batches, chunk_stats) = standardized;
+        stats.merge(&chunk_stats);
+        progress.inc(rows as u64);
+        pending = (rows > 0).then_some(batches);
+        spare = std::mem::replace(&mut current, next);
+    }
+    rejects.append(&mut input.rejects);
+    let mut report = input.report;
+
+    let duplicates = find_duplicates(&builder.ids()[first_row..], &lines);
     if !duplicates.is_empty() {
         let shown: Vec<String> = duplicates
             .iter()
@@ -218,6 +359,97 @@ fn load_source(
     }
     report.accepted = report.rows - report.rejected;
     Ok(report)
+}
+
+/// Ids seen before in `ids` (with the line of the first occurrence and the repeat's
+/// line), in order of the repeats.
+fn find_duplicates<'a>(ids: &'a [String], lines: &[u64]) -> Vec<(&'a str, u64, u64)> {
+    let mut first: FxHashMap<&str, u64> = FxHashMap::default();
+    first.reserve(ids.len());
+    let mut duplicates = Vec::new();
+    for (id, &line) in ids.iter().zip(lines) {
+        match first.entry(id.as_str()) {
+            std::collections::hash_map::Entry::Occupied(e) => {
+                duplicates.push((id.as_str(), *e.get(), line))
+            }
+            std::collections::hash_map::Entry::Vacant(e) => {
+                e.insert(line);
+            }
+        }
+    }
+    duplicates
+}
+
+/// Standardize the rows of `chunk` in parallel, one [`RecordBatch`] per task of
+/// `task_rows` rows, in row order.
+fn standardize_chunk(
+    chunk: &RawChunk,
+    attrs: &[Attr],
+    source: u16,
+    conv: &Conventions,
+    task_rows: usize,
+) -> (Vec<RecordBatch>, StdStats) {
+    let rows = chunk.rows();
+    let per_row = 1 + attrs.len();
+    let tasks = rows.div_ceil(task_rows);
+    let results: Vec<(RecordBatch, StdStats)> = (0..tasks)
+        .into_par_iter()
+        .map(|t| {
+            let range = t * task_rows..((t + 1) * task_rows).min(rows);
+            let mut batch = RecordBatch::with_capacity(source, range.len());
+            let mut stats = StdStats::default();
+            let mut raw = RawRecord::default();
+            for row in range {
+                let spans = &chunk.spans[row * per_row..(row + 1) * per_row];
+                let text = |k: usize| &chunk.text[spans[k].0..spans[k].1];
+                raw.fill(attrs.iter().enumerate().map(|(j, &a)| (a, text(j + 1))));
+                let record = standardize(&raw.record, conv, &mut stats);
+                batch.push(text(0).to_string(), record);
+            }
+            (batch, stats)
+        })
+        .collect();
+    let mut stats = StdStats::default();
+    let batches = results
+        .into_iter()
+        .map(|(b, s)| {
+            stats.merge(&s);
+            b
+        })
+        .collect();
+    (batches, stats)
+}
+
+/// A reusable raw record: refilling it keeps the strings' buffers.
+#[derive(Default)]
+struct RawRecord {
+    record: StdRecord,
+    spare: Vec<String>,
+}
+
+impl RawRecord {
+    /// Set the record to the non-empty `values` (a later value of the same attribute
+    /// wins; an empty value leaves the attribute as it is).
+    fn fill<'a>(&mut self, values: impl Iterator<Item = (Attr, &'a str)>) {
+        for slot in &mut self.record.values {
+            if let Some(s) = slot.take() {
+                self.spare.push(s);
+            }
+        }
+        for (attr, v) in values {
+            if v.is_empty() {
+                continue;
+            }
+            let slot = &mut self.record.values[attr.index()];
+            let mut s = match slot.take() {
+                Some(s) => s,
+                None => self.spare.pop().unwrap_or_default(),
+            };
+            s.clear();
+            s.push_str(v);
+            *slot = Some(s);
+        }
+    }
 }
 
 fn read_headers<R: std::io::Read>(reader: &mut csv::Reader<R>, path: &Path) -> Result<Vec<String>> {
@@ -273,41 +505,6 @@ fn find_column(
             ),
         )
     })
-}
-
-fn flush(
-    chunk: &mut Vec<RawRow>,
-    src: &SourceSpec,
-    index: u16,
-    builder: &mut RecordTableBuilder,
-    stats: &mut StdStats,
-) {
-    if chunk.is_empty() {
-        return;
-    }
-    let conv = &src.conventions;
-    let (records, chunk_stats) = chunk
-        .par_iter()
-        .with_min_len(256)
-        .fold(
-            || (Vec::new(), StdStats::default()),
-            |(mut v, mut st), row| {
-                v.push(standardize(&row.raw, conv, &mut st));
-                (v, st)
-            },
-        )
-        .reduce(
-            || (Vec::new(), StdStats::default()),
-            |(mut a, mut sa), (b, sb)| {
-                a.extend(b);
-                sa.merge(&sb);
-                (a, sa)
-            },
-        );
-    stats.merge(&chunk_stats);
-    for (row, rec) in chunk.drain(..).zip(records) {
-        builder.push(index, row.id, rec);
-    }
 }
 
 #[cfg(test)]
@@ -408,5 +605,89 @@ keys = ["family_name"]
         let err = load(&spec).unwrap_err();
         assert!(err.is_bad_input());
         assert!(err.to_string().contains("a.csv"));
+    }
+
+    /// A small synthetic data set of three sources, with rows to reject appended to
+    /// the first file.
+    fn synth_spec(dir: &Path) -> Spec {
+        let cfg = crate::synth::SynthConfig {
+            customers: 700,
+            seed: 3,
+            noise: Default::default(),
+        };
+        crate::synth::write_dataset(&crate::synth::generate(&cfg), dir).unwrap();
+        let spec = Spec::load(&dir.join("spec.toml")).unwrap();
+        let mut f = std::fs::OpenOptions::new()
+            .append(true)
+            .open(&spec.sources[0].path)
+            .unwrap();
+        f.write_all(b"ragged,row\n,,,,,,,,,,,,,,,\n\"unterminated\n")
+            .unwrap();
+        spec
+    }
+
+    fn assert_same(a: &Loaded, b: &Loaded, what: &str) {
+        assert_eq!(a.table, b.table, "{what}");
+        assert_eq!(a.rejects, b.rejects, "{what}");
+        assert_eq!(a.reports, b.reports, "{what}");
+        assert_eq!(a.stats, b.stats, "{what}");
+    }
+
+    #[test]
+    fn result_does_not_depend_on_threads_or_chunk_sizes() {
+        let dir = tempfile::tempdir().unwrap();
+        let spec = synth_spec(dir.path());
+        let run = |threads: usize, chunk: usize, task: usize| {
+            rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap()
+                .install(|| load_chunked(&spec, &Progress::hidden(), chunk, task))
+                .unwrap()
+        };
+        // One row at a time on one thread is the plain sequential order.
+        let reference = run(1, 1, 1);
+        assert!(reference.table.len() > 1000, "{}", reference.table.len());
+        assert!(!reference.rejects.is_empty());
+        let mut last = 0;
+        for (i, rows) in reference.table.source.iter().enumerate() {
+            assert!(*rows >= last, "records out of source order at {i}");
+            last = *rows;
+        }
+        for (threads, chunk, task) in [
+            (1, CHUNK, TASK_ROWS),
+            (2, CHUNK, TASK_ROWS),
+            (2, 1, 1),
+            (2, 7, 3),
+            (2, 100, 1000),
+            (2, 333, 17),
+            (1, 64, 8),
+        ] {
+            let got = run(threads, chunk, task);
+            assert_same(
+                &got,
+                &reference,
+                &format!("threads {threads}, chunk {chunk}, task {task}"),
+            );
+        }
+    }
+
+    #[test]
+    fn duplicate_ids_are_found_across_chunks() {
+        let dir = tempfile::tempdir().unwrap();
+        let mut csv = b"id,last,mail\n".to_vec();
+        for i in 0..50 {
+            csv.extend_from_slice(format!("{},N{i},\n", i % 40).as_bytes());
+        }
+        let spec = spec_for(dir.path(), &csv);
+        for chunk in [1, 7, CHUNK] {
+            let err = load_chunked(&spec, &Progress::hidden(), chunk, 3)
+                .unwrap_err()
+                .to_string();
+            assert!(
+                err.contains("10 duplicate id(s)") && err.contains("`0` (lines 2 and 42)"),
+                "{err}"
+            );
+        }
     }
 }
