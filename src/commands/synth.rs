@@ -53,8 +53,8 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     }
     let summary = synth::write_dataset(&data, &args.out)
         .with_context(|| format!("writing the synthetic data to `{}`", args.out.display()))?;
-    print!("{summary}");
     if !global.quiet {
+        print!("{summary}");
         eprintln!("done in {:.1} s", started.elapsed().as_secs_f64());
     }
     Ok(())
