@@ -616,6 +616,38 @@ impl Walker {
         })
     }
 
+    /// The strings of the list at `at.k`, each with its key path; `help` says what the
+    /// list holds when it is missing or not a list.
+    fn string_items<'a>(
+        &self,
+        t: &'a Table,
+        at: &str,
+        k: &str,
+        help: &str,
+    ) -> Result<Vec<(String, &'a str)>> {
+        let list_at = join(at, k);
+        let Some(Value::Array(items)) = t.get(k) else {
+            return Err(self.err(
+                list_at,
+                format!("a list is required; allowed items: {help}"),
+            ));
+        };
+        items
+            .iter()
+            .enumerate()
+            .map(|(i, v)| {
+                let key = format!("{list_at}[{}]", i + 1);
+                match v {
+                    Value::String(s) => Ok((key, s.as_str())),
+                    other => Err(self.err(
+                        key,
+                        format!("expected a string, found {}", type_name(other)),
+                    )),
+                }
+            })
+            .collect()
+    }
+
     /// A non-empty `[[name]]` list whose entries are unique by `key` (checked at `field`).
     fn unique_list<T>(
         &self,
@@ -770,18 +802,8 @@ impl Walker {
             ));
         }
         let levels_at = join(at, "levels");
-        let Some(Value::Array(items)) = t.get("levels") else {
-            return Err(self.err(
-                levels_at,
-                format!("a list of levels is required; allowed: {LEVEL_HELP}"),
-            ));
-        };
         let mut levels = Vec::new();
-        for (i, v) in items.iter().enumerate() {
-            let key = format!("{levels_at}[{}]", i + 1);
-            let Value::String(s) = v else {
-                return Err(self.err(key, format!("expected a string, found {}", type_name(v))));
-            };
+        for (key, s) in self.string_items(t, at, "levels", LEVEL_HELP)? {
             let level = Level::parse(s).map_err(|m| self.err(key.clone(), m))?;
             if level.is_date_level() && attr != Attr::BirthDate {
                 return Err(self.err(key, format!("`{level}` only applies to birth_date")));
@@ -810,6 +832,12 @@ impl Walker {
                 ))
             }
         };
+        if frequency && !levels.contains(&Level::Exact) {
+            return Err(self.err(
+                join(at, "frequency"),
+                "value-frequency weights adjust the `exact` level; add \"exact\" to levels",
+            ));
+        }
         Ok(CompareSpec {
             attr,
             levels,
@@ -821,18 +849,8 @@ impl Walker {
         self.check_keys(t, at, &["name", "keys"])?;
         let name = self.req_string(t, at, "name")?.to_string();
         let keys_at = join(at, "keys");
-        let Some(Value::Array(items)) = t.get("keys") else {
-            return Err(self.err(
-                keys_at,
-                format!("a list of key parts is required: {KEY_HELP}"),
-            ));
-        };
         let mut keys = Vec::new();
-        for (i, v) in items.iter().enumerate() {
-            let key = format!("{keys_at}[{}]", i + 1);
-            let Value::String(s) = v else {
-                return Err(self.err(key, format!("expected a string, found {}", type_name(v))));
-            };
+        for (key, s) in self.string_items(t, at, "keys", KEY_HELP)? {
             keys.push(KeyPart::parse(s).map_err(|m| self.err(key, m))?);
         }
         if keys.is_empty() {
@@ -999,24 +1017,11 @@ impl Walker {
     }
 
     fn string_list(&self, t: &Table, at: &str, k: &str) -> Result<Vec<String>> {
-        match t.get(k) {
-            None => Ok(Vec::new()),
-            Some(Value::Array(items)) => items
-                .iter()
-                .enumerate()
-                .map(|(i, v)| match v {
-                    Value::String(s) => Ok(s.clone()),
-                    other => Err(self.err(
-                        format!("{}[{}]", join(at, k), i + 1),
-                        format!("expected a string, found {}", type_name(other)),
-                    )),
-                })
-                .collect(),
-            Some(v) => Err(self.err(
-                join(at, k),
-                format!("expected a list of strings, found {}", type_name(v)),
-            )),
+        if t.get(k).is_none() {
+            return Ok(Vec::new());
         }
+        let items = self.string_items(t, at, k, "strings")?;
+        Ok(items.into_iter().map(|(_, s)| s.to_string()).collect())
     }
 }
 
@@ -1200,6 +1205,16 @@ unique = ["email"]
         let (k, m) = err_of(&format!("{}{}", &GOOD[..start], &GOOD[end..]));
         assert_eq!(k, "block");
         assert!(m.contains("at least one [[block]]"), "{m}");
+    }
+
+    #[test]
+    fn frequency_needs_the_exact_level() {
+        let (k, m) = err_of(&GOOD.replace(
+            "levels = [\"exact\", \"translit\", \"jaro_winkler >= 0.92\"]",
+            "levels = [\"translit\"]",
+        ));
+        assert_eq!(k, "compare[1].frequency");
+        assert!(m.contains("exact"), "{m}");
     }
 
     #[test]
