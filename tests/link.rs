@@ -309,3 +309,20 @@ fn committed_model_files_keep_loading() {
         assert!(o.status.success(), "{}: {}", model.display(), text(&o).1);
     }
 }
+
+#[test]
+fn target_precision_moves_the_match_threshold() {
+    let dir = mini_copy();
+    let o = link(dir.path(), "a", &["--target-precision", "0.6"], None);
+    let (out, err) = text(&o);
+    assert!(o.status.success(), "{err}");
+    let line = out
+        .lines()
+        .find(|l| l.contains("thresholds:"))
+        .unwrap()
+        .to_string();
+    assert!(!line.contains("match at probability >= 0.9000"), "{line}");
+    let o = link(dir.path(), "b", &["--target-precision", "1.5"], None);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(text(&o).1.contains("between 0 and 1"), "{}", text(&o).1);
+}
