@@ -90,9 +90,10 @@ fn load_chunked(
     let mut rejects = Vec::new();
     let mut reports = Vec::new();
     let mut stats = StdStats::default();
-    let sizes = Sizes {
+    let mut chunking = Chunking {
         chunk_rows: chunk_rows.max(1),
         task_rows: task_rows.max(1),
+        buffers: Default::default(),
     };
     for (i, src) in spec.sources.iter().enumerate() {
         let report = load_source(
@@ -102,7 +103,7 @@ fn load_chunked(
             &mut rejects,
             &mut stats,
             progress,
-            &sizes,
+            &mut chunking,
         )?;
         reports.push(report);
     }
@@ -114,10 +115,12 @@ fn load_chunked(
     })
 }
 
-/// Rows per chunk and per standardization task.
-struct Sizes {
+/// Rows per chunk and per standardization task, and the chunk buffers.
+struct Chunking {
     chunk_rows: usize,
     task_rows: usize,
+    /// Two chunk buffers, reused from chunk to chunk and source to source.
+    buffers: [RawChunk; 2],
 }
 
 /// Rows that passed the checks, waiting to be standardized: the trimmed id and mapped
@@ -151,6 +154,8 @@ struct SourceReader<'a> {
     report: SourceReport,
     rejects: Vec<Reject>,
     done: bool,
+    /// Size of the file, bounding the buffer reserved for a chunk's text.
+    file_bytes: u64,
 }
 
 impl SourceReader<'_> {
@@ -169,6 +174,11 @@ impl SourceReader<'_> {
         chunk.text.clear();
         chunk.spans.clear();
         chunk.lines.clear();
+        // Room for rows of up to 512 bytes (reserved, not touched): the buffer does
+        // not regrow and copy itself while the first chunks are read.
+        chunk
+            .text
+            .reserve((rows as u64 * 512).min(self.file_bytes) as usize);
         chunk.spans.reserve(rows * (1 + self.mapped.len()));
         chunk.lines.reserve(rows);
         let start_byte = self.reader.position().byte();
@@ -268,7 +278,7 @@ fn load_source(
     rejects: &mut Vec<Reject>,
     stats: &mut StdStats,
     progress: &Progress,
-    sizes: &Sizes,
+    chunking: &mut Chunking,
 ) -> Result<SourceReport> {
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
@@ -298,19 +308,21 @@ fn load_source(
         },
         rejects: Vec::new(),
         done: false,
+        file_bytes,
     };
 
     let first_row = builder.len();
     let mut lines: Vec<u64> = Vec::new();
     let conv = &src.conventions;
-    let mut current = input.read_chunk(sizes.chunk_rows, RawChunk::default());
+    let [first, mut spare] = std::mem::take(&mut chunking.buffers);
+    let (chunk_rows, task_rows) = (chunking.chunk_rows, chunking.task_rows);
+    let mut current = input.read_chunk(chunk_rows, first);
     // Reserve for the rest of the input, estimated from the first chunk's bytes per row.
     if current.rows() > 0 && current.bytes > 0 {
         let rows = (file_bytes as f64 * current.rows() as f64 / current.bytes as f64) as usize;
         builder.expect(rows);
         lines.reserve(rows);
     }
-    let mut spare = RawChunk::default();
     let mut pending: Option<Vec<RecordBatch>> = None;
     // Pipeline: read chunk k+1, standardize chunk k and intern chunk k-1 at once.
     while current.rows() > 0 || pending.is_some() {
@@ -319,14 +331,8 @@ fn load_source(
         let ((next, standardized), ()) = rayon::join(
             || {
                 rayon::join(
-                    || {
-                        if input.done {
-                            RawChunk::default()
-                        } else {
-                            input.read_chunk(sizes.chunk_rows, std::mem::take(&mut spare))
-                        }
-                    },
-                    || standardize_chunk(&current, &attrs, index, conv, sizes.task_rows),
+                    || input.read_chunk(chunk_rows, std::mem::take(&mut spare)),
+                    || standardize_chunk(&current, &attrs, index, conv, task_rows),
                 )
             },
             || {
@@ -341,6 +347,7 @@ fn load_source(
         pending = (rows > 0).then_some(batches);
         spare = std::mem::replace(&mut current, next);
     }
+    chunking.buffers = [current, spare];
     rejects.append(&mut input.rejects);
     let mut report = input.report;
 
