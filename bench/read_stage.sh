@@ -10,7 +10,9 @@
 # `email`) so that the later stages stay short; the copy is written next to the spec
 # (source paths are relative to it) and removed afterwards. Set FULL=1 to run the spec
 # as it is. RAYON_NUM_THREADS is passed through (1 gives the stage's CPU time).
-# Prints one line per run: binary, read + standardize seconds, total seconds, peak RSS.
+# Prints one line per run: binary, read + standardize seconds (wall), total seconds
+# (wall), CPU seconds of the whole run (user + system; less sensitive to other load than
+# wall time), peak RSS.
 set -euo pipefail
 if [ $# -lt 3 ]; then
     echo "usage: $0 SPEC ROUNDS BINARY..." >&2
@@ -36,7 +38,7 @@ fi
 for round in $(seq "$rounds"); do
     for bin in "$@"; do
         log="$out/log"
-        if ! /usr/bin/time -f "%M" -o "$out/rss" "$bin" link --spec "$spec" --out "$out/run" \
+        if ! /usr/bin/time -f "%M %U %S" -o "$out/rss" "$bin" link --spec "$spec" --out "$out/run" \
             --timings >"$log" 2>"$out/err"; then
             echo "$bin failed:" >&2
             cat "$out/err" >&2
@@ -44,7 +46,8 @@ for round in $(seq "$rounds"); do
         fi
         read_s=$(awk '/read \+ standardize/ {print $(NF-1)}' "$log")
         total_s=$(awk '$1 == "total" {print $(NF-1)}' "$log")
-        printf '%-32s round %d  read+std %7s s  total %7s s  rss %6d MB\n' \
-            "$bin" "$round" "$read_s" "$total_s" $(($(tail -n1 "$out/rss") / 1024))
+        read -r rss user sys < <(tail -n1 "$out/rss")
+        printf '%-28s round %d  read+std %7s s  total %7s s  cpu %7.2f s  rss %6d MB\n' \
+            "$bin" "$round" "$read_s" "$total_s" "$(echo "$user + $sys" | bc)" $((rss / 1024))
     done
 done

@@ -251,9 +251,13 @@ impl Hash for Hashed {
     }
 }
 
-/// Hasher for [`Hashed`]: passes the stored hash through.
+/// Hasher for keys that carry their own hash (written with `write_u64`): passes it
+/// through.
 #[derive(Default)]
-struct StoredHash(u64);
+pub struct StoredHash(u64);
+
+/// Builds [`StoredHash`]ers, for maps whose keys carry their own hash.
+pub type PassThroughHash = BuildHasherDefault<StoredHash>;
 
 impl Hasher for StoredHash {
     fn finish(&self) -> u64 {
@@ -261,7 +265,7 @@ impl Hasher for StoredHash {
     }
 
     fn write(&mut self, bytes: &[u8]) {
-        // Only `write_u64` is used by `Hashed`; fold anything else in for completeness.
+        // Keys write their hash with `write_u64`; fold anything else in for completeness.
         for &b in bytes {
             self.0 = self.0.rotate_left(5) ^ u64::from(b);
         }
@@ -272,7 +276,7 @@ impl Hasher for StoredHash {
     }
 }
 
-type Dictionary = std::collections::HashMap<Hashed, ValueId, BuildHasherDefault<StoredHash>>;
+type Dictionary = std::collections::HashMap<Hashed, ValueId, PassThroughHash>;
 
 /// Standardized records of one source, stored column-wise, waiting to be interned.
 ///

@@ -10,10 +10,16 @@
 use std::path::Path;
 
 use rayon::prelude::*;
-use rustc_hash::FxHashMap;
+use std::collections::hash_map::Entry;
+use std::collections::HashMap;
+use std::hash::BuildHasher;
+
+use rustc_hash::FxBuildHasher;
 
 use crate::error::{Error, Result};
-use crate::record::{Attr, RecordBatch, RecordTable, RecordTableBuilder, StdRecord};
+use crate::record::{
+    Attr, PassThroughHash, RecordBatch, RecordTable, RecordTableBuilder, StdRecord,
+};
 use crate::spec::{SourceSpec, Spec};
 use crate::standardize::{standardize, Conventions, StdStats};
 use crate::util::Progress;
@@ -84,9 +90,10 @@ fn load_chunked(
     let mut rejects = Vec::new();
     let mut reports = Vec::new();
     let mut stats = StdStats::default();
-    let sizes = Sizes {
+    let mut chunking = Chunking {
         chunk_rows: chunk_rows.max(1),
         task_rows: task_rows.max(1),
+        buffers: Default::default(),
     };
     for (i, src) in spec.sources.iter().enumerate() {
         let report = load_source(
@@ -96,7 +103,7 @@ fn load_chunked(
             &mut rejects,
             &mut stats,
             progress,
-            &sizes,
+            &mut chunking,
         )?;
         reports.push(report);
     }
@@ -108,10 +115,12 @@ fn load_chunked(
     })
 }
 
-/// Rows per chunk and per standardization task.
-struct Sizes {
+/// Rows per chunk and per standardization task, and the chunk buffers.
+struct Chunking {
     chunk_rows: usize,
     task_rows: usize,
+    /// Two chunk buffers, reused from chunk to chunk and source to source.
+    buffers: [RawChunk; 2],
 }
 
 /// Rows that passed the checks, waiting to be standardized: the trimmed id and mapped
@@ -145,6 +154,8 @@ struct SourceReader<'a> {
     report: SourceReport,
     rejects: Vec<Reject>,
     done: bool,
+    /// Size of the file, bounding the buffer reserved for a chunk's text.
+    file_bytes: u64,
 }
 
 impl SourceReader<'_> {
@@ -163,6 +174,11 @@ impl SourceReader<'_> {
         chunk.text.clear();
         chunk.spans.clear();
         chunk.lines.clear();
+        // Room for rows of up to 512 bytes (reserved, not touched): the buffer does
+        // not regrow and copy itself while the first chunks are read.
+        chunk
+            .text
+            .reserve((rows as u64 * 512).min(self.file_bytes) as usize);
         chunk.spans.reserve(rows * (1 + self.mapped.len()));
         chunk.lines.reserve(rows);
         let start_byte = self.reader.position().byte();
@@ -262,7 +278,7 @@ fn load_source(
     rejects: &mut Vec<Reject>,
     stats: &mut StdStats,
     progress: &Progress,
-    sizes: &Sizes,
+    chunking: &mut Chunking,
 ) -> Result<SourceReport> {
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
@@ -292,19 +308,21 @@ fn load_source(
         },
         rejects: Vec::new(),
         done: false,
+        file_bytes,
     };
 
     let first_row = builder.len();
     let mut lines: Vec<u64> = Vec::new();
     let conv = &src.conventions;
-    let mut current = input.read_chunk(sizes.chunk_rows, RawChunk::default());
+    let [first, mut spare] = std::mem::take(&mut chunking.buffers);
+    let (chunk_rows, task_rows) = (chunking.chunk_rows, chunking.task_rows);
+    let mut current = input.read_chunk(chunk_rows, first);
     // Reserve for the rest of the input, estimated from the first chunk's bytes per row.
     if current.rows() > 0 && current.bytes > 0 {
         let rows = (file_bytes as f64 * current.rows() as f64 / current.bytes as f64) as usize;
         builder.expect(rows);
         lines.reserve(rows);
     }
-    let mut spare = RawChunk::default();
     let mut pending: Option<Vec<RecordBatch>> = None;
     // Pipeline: read chunk k+1, standardize chunk k and intern chunk k-1 at once.
     while current.rows() > 0 || pending.is_some() {
@@ -313,14 +331,8 @@ fn load_source(
         let ((next, standardized), ()) = rayon::join(
             || {
                 rayon::join(
-                    || {
-                        if input.done {
-                            RawChunk::default()
-                        } else {
-                            input.read_chunk(sizes.chunk_rows, std::mem::take(&mut spare))
-                        }
-                    },
-                    || standardize_chunk(&current, &attrs, index, conv, sizes.task_rows),
+                    || input.read_chunk(chunk_rows, std::mem::take(&mut spare)),
+                    || standardize_chunk(&current, &attrs, index, conv, task_rows),
                 )
             },
             || {
@@ -335,6 +347,7 @@ fn load_source(
         pending = (rows > 0).then_some(batches);
         spare = std::mem::replace(&mut current, next);
     }
+    chunking.buffers = [current, spare];
     rejects.append(&mut input.rejects);
     let mut report = input.report;
 
@@ -363,21 +376,56 @@ fn load_source(
 
 /// Ids seen before in `ids` (with the line of the first occurrence and the repeat's
 /// line), in order of the repeats.
+///
+/// The ids are hashed in parallel and split into shards by hash; all copies of an id
+/// fall into one shard, which is scanned in row order.
 fn find_duplicates<'a>(ids: &'a [String], lines: &[u64]) -> Vec<(&'a str, u64, u64)> {
-    let mut first: FxHashMap<&str, u64> = FxHashMap::default();
-    first.reserve(ids.len());
-    let mut duplicates = Vec::new();
-    for (id, &line) in ids.iter().zip(lines) {
-        match first.entry(id.as_str()) {
-            std::collections::hash_map::Entry::Occupied(e) => {
-                duplicates.push((id.as_str(), *e.get(), line))
+    const SHARDS: u64 = 16;
+    // Bits of the hash the shard's own table does not use (hashbrown takes the low
+    // bits for the slot and the top seven for the tag).
+    let shard_of = |hash: u64| (hash >> 32) % SHARDS;
+    let hashes: Vec<u64> = ids
+        .par_iter()
+        .with_min_len(4096)
+        .map(|id| FxBuildHasher.hash_one(id.as_str()))
+        .collect();
+    let mut repeats: Vec<(usize, usize)> = (0..SHARDS)
+        .into_par_iter()
+        .flat_map_iter(|shard| {
+            let mut first: HashMap<IdKey<'_>, usize, PassThroughHash> = HashMap::default();
+            let mut repeats = Vec::new();
+            for (row, (&hash, id)) in hashes.iter().zip(ids).enumerate() {
+                if shard_of(hash) != shard {
+                    continue;
+                }
+                match first.entry(IdKey { hash, id }) {
+                    Entry::Occupied(e) => repeats.push((row, *e.get())),
+                    Entry::Vacant(e) => {
+                        e.insert(row);
+                    }
+                }
             }
-            std::collections::hash_map::Entry::Vacant(e) => {
-                e.insert(line);
-            }
-        }
+            repeats
+        })
+        .collect();
+    repeats.sort_unstable();
+    repeats
+        .into_iter()
+        .map(|(row, first)| (ids[row].as_str(), lines[first], lines[row]))
+        .collect()
+}
+
+/// An id with its precomputed hash.
+#[derive(PartialEq, Eq)]
+struct IdKey<'a> {
+    hash: u64,
+    id: &'a str,
+}
+
+impl std::hash::Hash for IdKey<'_> {
+    fn hash<H: std::hash::Hasher>(&self, state: &mut H) {
+        state.write_u64(self.hash);
     }
-    duplicates
 }
 
 /// Standardize the rows of `chunk` in parallel, one [`RecordBatch`] per task of
@@ -685,9 +733,36 @@ keys = ["family_name"]
                 .unwrap_err()
                 .to_string();
             assert!(
-                err.contains("10 duplicate id(s)") && err.contains("`0` (lines 2 and 42)"),
+                err.contains(
+                    "10 duplicate id(s) in column `id`: `0` (lines 2 and 42), `1` (lines 3 and \
+                     43), `2` (lines 4 and 44), `3` (lines 5 and 45), `4` (lines 6 and 46), ..."
+                ),
                 "{err}"
             );
+        }
+    }
+
+    mod props {
+        use super::*;
+        use proptest::prelude::*;
+
+        proptest! {
+            /// The sharded search finds what a plain scan in row order finds.
+            #[test]
+            fn find_duplicates_equals_a_plain_scan(ids in prop::collection::vec("[a-d]{1,2}", 0..200)) {
+                let lines: Vec<u64> = (0..ids.len() as u64).map(|i| i * 3 + 2).collect();
+                let mut first: HashMap<&str, u64> = HashMap::new();
+                let mut expected = Vec::new();
+                for (id, &line) in ids.iter().zip(&lines) {
+                    match first.get(id.as_str()) {
+                        Some(&f) => expected.push((id.as_str(), f, line)),
+                        None => {
+                            first.insert(id, line);
+                        }
+                    }
+                }
+                prop_assert_eq!(find_duplicates(&ids, &lines), expected);
+            }
         }
     }
 }
