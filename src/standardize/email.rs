@@ -68,6 +68,23 @@ fn domain_ok(domain: &str) -> bool {
     labels >= 2 && !last.bytes().all(|b| b.is_ascii_digit())
 }
 
+/// Rules a provider documents for its own addresses; true when something changed.
+///
+/// Gmail: dots in the user name are ignored and `googlemail.com` is the same mailbox as
+/// `gmail.com` (Google Account Help, "Dots don't matter in Gmail addresses"; from
+/// memory). No other provider rules are applied.
+fn provider_rules(local: &mut String, domain: &mut String) -> bool {
+    if domain == "googlemail.com" || domain == "gmail.com" {
+        let before = (local.len(), domain.len());
+        local.retain(|c| c != '.');
+        if domain == "googlemail.com" {
+            *domain = "gmail.com".to_string();
+        }
+        return before != (local.len(), domain.len());
+    }
+    false
+}
+
 /// Validate and normalize an e-mail address (rules in the module doc).
 pub fn normalize_email(raw: &str) -> Cleaned {
     let mut s = raw.trim();
@@ -104,7 +121,11 @@ pub fn normalize_email(raw: &str) -> Cleaned {
             x.nfc().collect::<String>().to_lowercase()
         }
     };
-    let out = format!("{}@{}", lower(local_key), lower(domain));
+    let (mut local_out, mut domain_out) = (lower(local_key), lower(domain));
+    if provider_rules(&mut local_out, &mut domain_out) {
+        repaired = true;
+    }
+    let out = format!("{local_out}@{domain_out}");
     if repaired {
         Cleaned::Repaired(out)
     } else {
@@ -151,6 +172,28 @@ mod tests {
         ] {
             assert_eq!(normalize_email(bad), Cleaned::Invalid, "{bad}");
         }
+    }
+
+    #[test]
+    fn gmail_rules_only_for_gmail() {
+        // Provider rule documented by Google (dots ignored, googlemail.com = gmail.com).
+        assert_eq!(
+            key("Jane.Roe@GoogleMail.com").as_deref(),
+            Some("janeroe@gmail.com")
+        );
+        assert_eq!(
+            key("j.a.n.e+news@gmail.com").as_deref(),
+            Some("jane@gmail.com")
+        );
+        assert_eq!(
+            normalize_email("janeroe@gmail.com"),
+            Cleaned::Parsed("janeroe@gmail.com".into())
+        );
+        // Other providers keep their dots.
+        assert_eq!(
+            key("jane.roe@example.com").as_deref(),
+            Some("jane.roe@example.com")
+        );
     }
 
     #[test]
