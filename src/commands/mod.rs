@@ -21,7 +21,7 @@ pub mod train;
 #[derive(Debug, Parser)]
 #[command(name = "kinlink", version, about, long_about = None)]
 pub struct Cli {
-    /// Silence progress output on stderr.
+    /// Print nothing but errors (and the stage timings when --timings asks for them).
     #[arg(long, global = true)]
     pub quiet: bool,
     #[command(subcommand)]
