@@ -3,6 +3,8 @@
 //! Sources map their own column names onto [`Attr`]; standardization turns raw strings
 //! into [`StdRecord`]s; [`RecordTable`] stores them column-wise with every distinct
 //! value interned once, so that later stages compare small integer ids.
+//! [`RecordTableBuilder`] interns records one by one or in [`RecordBatch`]es (columns in
+//! parallel); either way a value's id is its rank of first appearance in its column.
 
 use rayon::prelude::*;
 use rustc_hash::FxBuildHasher;

@@ -2,7 +2,8 @@
 //!
 //! Each source's header is mapped onto standard attributes; the rows are read in chunks,
 //! standardized in parallel and interned in file order, so the table does not depend on
-//! the thread count. Rows that cannot be used (ragged rows, invalid UTF-8, empty ids)
+//! the thread count or the chunk sizes. The three steps overlap: while chunk k is
+//! standardized, chunk k+1 is read and chunk k-1 interned (each column on its own). Rows that cannot be used (ragged rows, invalid UTF-8, empty ids)
 //! become [`Reject`]s with source, line and reason; nothing is dropped silently. A file
 //! that is unusable as a whole (missing, empty, unknown column, duplicate ids) is an
 //! error naming the file and what would fix it.
