@@ -45,11 +45,15 @@ pub enum Attr {
     Company,
     /// Legal form of a company (inc, llc, gmbh, sarl, ...), split off the company name.
     LegalForm,
+    /// Kind of line of the phone number (`mobile`, `fixed_line`,
+    /// `fixed_line_or_mobile`, `toll_free`, `voip`, ...), derived from the phone number
+    /// when no column gives it.
+    PhoneType,
 }
 
 impl Attr {
     /// All attributes in their canonical order.
-    pub const ALL: [Attr; 15] = [
+    pub const ALL: [Attr; 16] = [
         Attr::GivenName,
         Attr::FamilyName,
         Attr::FullName,
@@ -65,6 +69,7 @@ impl Attr {
         Attr::BirthDate,
         Attr::Company,
         Attr::LegalForm,
+        Attr::PhoneType,
     ];
 
     /// Number of attributes.
@@ -88,6 +93,7 @@ impl Attr {
             Attr::BirthDate => "birth_date",
             Attr::Company => "company",
             Attr::LegalForm => "legal_form",
+            Attr::PhoneType => "phone_type",
         }
     }
 

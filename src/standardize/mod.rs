@@ -16,6 +16,9 @@
 //!   ([`email`]).
 //! - phone: E.164 (`+14155550123`) using the record's own country, else the source
 //!   country; invalid become missing ([`phone`]).
+//! - phone_type: `mobile`, `fixed_line`, `fixed_line_or_mobile`, `toll_free`, `voip`,
+//!   ... ([`phone::PhoneType`]); a record without one gets the type of its valid phone
+//!   number from the numbering metadata, and none when the phone is missing or invalid.
 //! - birth_date: ISO `YYYY-MM-DD`; impossible dates become missing ([`dates`]).
 //! - street without house number and unit, street types abbreviated per country; house
 //!   number and unit split off the street when those attributes are missing; postcode
@@ -28,8 +31,8 @@
 //!
 //! Counting: every non-empty raw value counts once as `present` for its attribute and
 //! once as `parsed`, `repaired` or `invalid`. Values derived from another attribute
-//! (given name from full name, house number from street, legal form from company) are
-//! counted under the attribute they came from.
+//! (given name from full name, house number from street, legal form from company, phone
+//! type from phone) are counted under the attribute they came from.
 
 pub mod address;
 pub mod company;
@@ -253,8 +256,17 @@ pub fn standardize(raw: &StdRecord, conv: &Conventions, stats: &mut StdStats) ->
         let e = count(Attr::Email, email::normalize_email(v), stats);
         out.set(Attr::Email, e);
     }
+    if let Some(v) = take(raw, Attr::PhoneType, stats) {
+        let t = count(Attr::PhoneType, phone::normalize_phone_type(v), stats);
+        out.set(Attr::PhoneType, t);
+    }
     if let Some(v) = take(raw, Attr::Phone, stats) {
-        let p = count(Attr::Phone, phone::normalize_phone(v, country), stats);
+        let (cleaned, kind) = phone::normalize_phone_typed(v, country);
+        let p = count(Attr::Phone, cleaned, stats);
+        // The type only comes with a valid number (`count` may still reject the value).
+        if p.is_some() && out.get(Attr::PhoneType).is_none() {
+            out.set(Attr::PhoneType, kind.map(|k| k.name().to_string()));
+        }
         out.set(Attr::Phone, p);
     }
     if let Some(v) = take(raw, Attr::BirthDate, stats) {
@@ -387,6 +399,8 @@ mod tests {
         assert_eq!(out.get(Attr::Email), Some("john.smith@example.com"));
         // CHECK_VALUES.md §5: "(650) 253-0000 ext. 123", US -> +16502530000.
         assert_eq!(out.get(Attr::Phone), Some("+16502530000"));
+        // CHECK_VALUES.md §5 type column: FIXED_LINE_OR_MOBILE.
+        assert_eq!(out.get(Attr::PhoneType), Some("fixed_line_or_mobile"));
         assert_eq!(out.get(Attr::Street), Some("n main st"));
         assert_eq!(out.get(Attr::HouseNumber), Some("123"));
         assert_eq!(out.get(Attr::Unit), Some("apt 4b"));
@@ -425,6 +439,8 @@ mod tests {
         assert_eq!(out.get(Attr::Country), Some("DE"));
         // CHECK_VALUES.md §5: "030 12345678", DE -> +493012345678.
         assert_eq!(out.get(Attr::Phone), Some("+493012345678"));
+        // CHECK_VALUES.md §5 type column: FIXED_LINE.
+        assert_eq!(out.get(Attr::PhoneType), Some("fixed_line"));
         assert_eq!(out.get(Attr::Postcode), Some("01067"));
         assert_eq!(out.get(Attr::Street), Some("hauptstr"));
         assert_eq!(out.get(Attr::HouseNumber), Some("12a"));
@@ -457,6 +473,46 @@ mod tests {
         assert_eq!(out.get(Attr::HouseNumber), Some("12a"));
         assert_eq!(out.get(Attr::Street), Some("main st"));
         assert_eq!(out.get(Attr::LegalForm), Some("ltd"));
+    }
+
+    #[test]
+    fn phone_type_from_the_number_unless_given() {
+        let c = conv("DE", DateOrder::Dmy, NameOrder::GivenFirst);
+        // CHECK_VALUES.md §5: "0151 23456789", DE -> MOBILE.
+        let mut stats = StdStats::default();
+        let out = standardize(&record(&[(Attr::Phone, "0151 23456789")]), &c, &mut stats);
+        assert_eq!(out.get(Attr::PhoneType), Some("mobile"));
+        // Derived: counted under phone only.
+        assert_eq!(stats.attrs[Attr::PhoneType.index()], AttrStats::default());
+        assert_eq!(stats.attrs[Attr::Phone.index()].repaired, 1);
+
+        // The source's own column wins, and is counted under phone_type.
+        let raw = record(&[
+            (Attr::Phone, "0151 23456789"),
+            (Attr::PhoneType, "Landline"),
+        ]);
+        let mut stats = StdStats::default();
+        let out = standardize(&raw, &c, &mut stats);
+        assert_eq!(out.get(Attr::PhoneType), Some("fixed_line"));
+        let t = stats.attrs[Attr::PhoneType.index()];
+        assert_eq!((t.present, t.repaired), (1, 1));
+
+        // An unreadable type column leaves room for the derived type.
+        let raw = record(&[(Attr::Phone, "030 12345678"), (Attr::PhoneType, "work")]);
+        let mut stats = StdStats::default();
+        let out = standardize(&raw, &c, &mut stats);
+        assert_eq!(out.get(Attr::PhoneType), Some("fixed_line"));
+        assert_eq!(stats.attrs[Attr::PhoneType.index()].invalid, 1);
+
+        // No valid number, no type. CHECK_VALUES.md §5: "07700 900123", GB is invalid.
+        for (phone, country) in [("07700 900123", "GB"), ("n/a", "GB"), ("12", "DE")] {
+            let out = standardize(
+                &record(&[(Attr::Phone, phone)]),
+                &conv(country, DateOrder::Dmy, NameOrder::GivenFirst),
+                &mut StdStats::default(),
+            );
+            assert_eq!(out.get(Attr::PhoneType), None, "{phone}");
+        }
     }
 
     #[test]
@@ -579,7 +635,9 @@ mod tests {
             let once = standardize(&raw, &c, &mut StdStats::default());
             // The second pass reads ISO dates, which are year-first in any order.
             let twice = standardize(&once, &c, &mut StdStats::default());
-            prop_assert_eq!(twice, once);
+            prop_assert_eq!(&twice, &once);
+            // Every valid phone carries its type.
+            prop_assert_eq!(once.get(Attr::Phone).is_some(), once.get(Attr::PhoneType).is_some());
         }
     }
 

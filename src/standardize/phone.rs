@@ -4,7 +4,11 @@
 //! when it has one, else the source's). Out: the E.164 string (`+` country code and
 //! national significant number, at most 15 digits, ITU-T E.164) for valid numbers only;
 //! anything else is invalid (CHECK_VALUES.md §5, note 2). Extensions (`ext. 123`,
-//! `x123`) are dropped from the value. National trunk prefixes (`0`, `(0)`, US `1`) and
+//! `x123`) are dropped from the value. [`normalize_phone_typed`] also gives the
+//! [`PhoneType`] of a valid number (`mobile`, `fixed_line`, `fixed_line_or_mobile`,
+//! `toll_free`, ...) from the metadata's number-type patterns, following
+//! libphonenumber's `getNumberType`; [`normalize_phone_type`] reads the same values from
+//! a source column. National trunk prefixes (`0`, `(0)`, US `1`) and
 //! international prefixes (`00`, `011`) are handled.
 //!
 //! Parsing uses the `phonenumber` crate 0.3.10 (libphonenumber metadata 9.0.33). Its
@@ -65,11 +69,124 @@ impl Desc {
     }
 }
 
+/// The kind of line a number belongs to, from the per-region number-type patterns of
+/// the libphonenumber metadata. Names are libphonenumber's `PhoneNumberType` values in
+/// snake case.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum PhoneType {
+    /// Fixed (landline) number.
+    FixedLine,
+    /// Mobile number.
+    Mobile,
+    /// Fixed-line and mobile numbers share the ranges (e.g. NANP), or the number
+    /// matches both patterns.
+    FixedLineOrMobile,
+    /// Freephone.
+    TollFree,
+    /// Premium rate.
+    PremiumRate,
+    /// Shared cost.
+    SharedCost,
+    /// Voice over IP.
+    Voip,
+    /// Personal number (routed to a fixed line or a mobile).
+    PersonalNumber,
+    /// Pager.
+    Pager,
+    /// Universal access number (company number routed by the operator).
+    Uan,
+    /// Voicemail access.
+    Voicemail,
+}
+
+impl PhoneType {
+    /// Every type, in declaration order.
+    pub const ALL: [PhoneType; 11] = [
+        PhoneType::FixedLine,
+        PhoneType::Mobile,
+        PhoneType::FixedLineOrMobile,
+        PhoneType::TollFree,
+        PhoneType::PremiumRate,
+        PhoneType::SharedCost,
+        PhoneType::Voip,
+        PhoneType::PersonalNumber,
+        PhoneType::Pager,
+        PhoneType::Uan,
+        PhoneType::Voicemail,
+    ];
+
+    /// The standardized value (`mobile`, `fixed_line`, ...).
+    pub fn name(self) -> &'static str {
+        match self {
+            PhoneType::FixedLine => "fixed_line",
+            PhoneType::Mobile => "mobile",
+            PhoneType::FixedLineOrMobile => "fixed_line_or_mobile",
+            PhoneType::TollFree => "toll_free",
+            PhoneType::PremiumRate => "premium_rate",
+            PhoneType::SharedCost => "shared_cost",
+            PhoneType::Voip => "voip",
+            PhoneType::PersonalNumber => "personal_number",
+            PhoneType::Pager => "pager",
+            PhoneType::Uan => "uan",
+            PhoneType::Voicemail => "voicemail",
+        }
+    }
+
+    /// The type with standardized value `name`.
+    pub fn from_name(name: &str) -> Option<PhoneType> {
+        PhoneType::ALL.into_iter().find(|t| t.name() == name)
+    }
+}
+
+/// Other spellings of phone types seen in source columns (common practice, no source).
+const PHONE_TYPE_SYNONYMS: &[(&str, PhoneType)] = &[
+    ("cell", PhoneType::Mobile),
+    ("cellular", PhoneType::Mobile),
+    ("mobile_phone", PhoneType::Mobile),
+    ("landline", PhoneType::FixedLine),
+    ("fixed", PhoneType::FixedLine),
+    ("freephone", PhoneType::TollFree),
+    ("premium", PhoneType::PremiumRate),
+];
+
+/// Standardize a phone-type value read from a source column: ASCII case and the
+/// separators ` `, `-` and `_` are ignored, a few other spellings (`cell`, `landline`)
+/// map to the standard names. `Parsed` when the value is a standard name as written,
+/// `Repaired` when it needed folding or a synonym, `Invalid` otherwise.
+pub fn normalize_phone_type(raw: &str) -> Cleaned {
+    let raw = raw.trim();
+    let folded: String = raw
+        .split([' ', '-', '_'])
+        .filter(|w| !w.is_empty())
+        .collect::<Vec<_>>()
+        .join("_")
+        .to_ascii_lowercase();
+    let found = PhoneType::from_name(&folded).or_else(|| {
+        PHONE_TYPE_SYNONYMS
+            .iter()
+            .find(|(s, _)| *s == folded)
+            .map(|(_, t)| *t)
+    });
+    match found {
+        Some(t) if t.name() == raw => Cleaned::Parsed(t.name().to_string()),
+        Some(t) => Cleaned::Repaired(t.name().to_string()),
+        None => Cleaned::Invalid,
+    }
+}
+
 /// The compiled patterns of one region.
 struct Region {
     general: Desc,
-    /// The number types the crate's `number_type` tests, in its order.
-    kinds: Vec<Desc>,
+    /// The number-type patterns in the order libphonenumber's `getNumberType` (and the
+    /// crate's `number_type`) tests them: premium rate, toll free, shared cost, voip,
+    /// personal number, pager, UAN, voicemail, fixed line, mobile.
+    kinds: Vec<(PhoneType, Desc)>,
+    /// The mobile pattern, tested again after a fixed-line match.
+    mobile: Option<Desc>,
+    /// Fixed-line and mobile patterns are the same text: a fixed-line match is
+    /// `fixed_line_or_mobile` without testing again (libphonenumber's
+    /// `sameMobileAndFixedLinePattern`).
+    same_fixed_and_mobile: bool,
     leading_digits: Option<Regex>,
     /// The trunk-prefix pattern (`national_prefix_for_parsing`), anchored.
     trunk_pattern: Option<Regex>,
@@ -81,24 +198,29 @@ impl Region {
     fn new(meta: &Metadata) -> Region {
         let d = meta.descriptors();
         let kinds = [
-            d.premium_rate(),
-            d.toll_free(),
-            d.shared_cost(),
-            d.voip(),
-            d.personal_number(),
-            d.pager(),
-            d.uan(),
-            d.voicemail(),
-            d.fixed_line(),
-            d.mobile(),
+            (PhoneType::PremiumRate, d.premium_rate()),
+            (PhoneType::TollFree, d.toll_free()),
+            (PhoneType::SharedCost, d.shared_cost()),
+            (PhoneType::Voip, d.voip()),
+            (PhoneType::PersonalNumber, d.personal_number()),
+            (PhoneType::Pager, d.pager()),
+            (PhoneType::Uan, d.uan()),
+            (PhoneType::Voicemail, d.voicemail()),
+            (PhoneType::FixedLine, d.fixed_line()),
+            (PhoneType::Mobile, d.mobile()),
         ]
         .into_iter()
-        .flatten()
-        .map(Desc::new)
+        .filter_map(|(t, desc)| Some((t, Desc::new(desc?))))
         .collect();
+        let same_fixed_and_mobile = match (d.fixed_line(), d.mobile()) {
+            (Some(f), Some(m)) => f.national_number().as_str() == m.national_number().as_str(),
+            _ => false,
+        };
         Region {
             general: Desc::new(d.general()),
             kinds,
+            mobile: d.mobile().map(Desc::new),
+            same_fixed_and_mobile,
             leading_digits: meta.leading_digits().and_then(|r| anchored(r.as_str())),
             trunk_pattern: meta
                 .national_prefix_for_parsing()
@@ -124,8 +246,21 @@ impl Region {
             .is_some_and(|re| re.is_match(national))
     }
 
-    fn is_valid(&self, national: &str) -> bool {
-        self.general.is_match(national) && self.kinds.iter().any(|k| k.is_match(national))
+    /// The number type, `None` when the number is not valid here: the general pattern
+    /// and then the first matching type pattern; a fixed-line match that also matches
+    /// the mobile pattern is `fixed_line_or_mobile` (libphonenumber `getNumberType`).
+    fn number_type(&self, national: &str) -> Option<PhoneType> {
+        if !self.general.is_match(national) {
+            return None;
+        }
+        let (kind, _) = self.kinds.iter().find(|(_, d)| d.is_match(national))?;
+        if *kind == PhoneType::FixedLine
+            && (self.same_fixed_and_mobile
+                || self.mobile.as_ref().is_some_and(|m| m.is_match(national)))
+        {
+            return Some(PhoneType::FixedLineOrMobile);
+        }
+        Some(*kind)
     }
 }
 
@@ -156,18 +291,22 @@ fn compiled(meta: &Metadata) -> Option<&'static Region> {
 /// calling code `code`: the crate's `is_valid` algorithm (region by leading digits,
 /// then the general pattern and one number-type pattern must match).
 pub fn is_valid_number(code: u16, national: &str) -> bool {
-    let Some(regions) = DATABASE.region(&code) else {
-        return false;
-    };
+    number_type(code, national).is_some()
+}
+
+/// The type of `national` (digits, with leading zeros) under country calling code
+/// `code`, `None` when the number is not valid. The region is chosen as for validity
+/// (by leading digits where the metadata has them); the type then follows
+/// libphonenumber's `getNumberType` with the same compiled patterns.
+pub fn number_type(code: u16, national: &str) -> Option<PhoneType> {
+    let regions = DATABASE.region(&code)?;
     if regions.len() == 1 {
         let meta = if regions[0] == "001" {
             DATABASE.by_code(&code).and_then(|m| m.into_iter().next())
         } else {
             DATABASE.by_id(regions[0])
         };
-        return meta
-            .and_then(compiled)
-            .is_some_and(|r| r.is_valid(national));
+        return meta.and_then(compiled)?.number_type(national);
     }
     for id in regions {
         let Some(r) = DATABASE.by_id(id).and_then(compiled) else {
@@ -176,17 +315,32 @@ pub fn is_valid_number(code: u16, national: &str) -> bool {
         match &r.leading_digits {
             Some(lead) => {
                 if lead.is_match(national) {
-                    return r.is_valid(national);
+                    return r.number_type(national);
                 }
             }
             None => {
-                if r.is_valid(national) {
-                    return true;
+                if let Some(t) = r.number_type(national) {
+                    return Some(t);
                 }
             }
         }
     }
-    false
+    None
+}
+
+/// The type of a number in E.164 form (`+` and digits, as [`normalize_phone`] writes
+/// it); `None` when it is not a valid number.
+pub fn phone_type_of_e164(e164: &str) -> Option<PhoneType> {
+    let digits = e164.strip_prefix('+')?;
+    if !digits.bytes().all(|b| b.is_ascii_digit()) || digits.len() > E164_MAX_DIGITS {
+        return None;
+    }
+    // Country calling codes are prefix-free (ITU-T E.164): the first known prefix.
+    (1..=3.min(digits.len())).find_map(|len| {
+        let code = digits[..len].parse::<u16>().ok()?;
+        DATABASE.by_code(&code)?;
+        Some(number_type(code, &digits[len..]))
+    })?
 }
 
 /// Regions for which [`parse_nanp_fast`] is used (and tested against the crate).
@@ -381,9 +535,16 @@ fn digits_of(s: &str) -> impl Iterator<Item = u8> + '_ {
 /// `Repaired` when digits were added or removed (country code from the region, trunk
 /// prefix, `00` prefix, extension), `Invalid` when the number is not valid.
 pub fn normalize_phone(raw: &str, region: Option<&str>) -> Cleaned {
+    normalize_phone_typed(raw, region).0
+}
+
+/// [`normalize_phone`] and, for valid numbers, the number's [`PhoneType`], found with
+/// the same pattern matches as the validity check (no extra pass).
+pub fn normalize_phone_typed(raw: &str, region: Option<&str>) -> (Cleaned, Option<PhoneType>) {
+    const INVALID: (Cleaned, Option<PhoneType>) = (Cleaned::Invalid, None);
     let raw = raw.trim();
     if raw.is_empty() {
-        return Cleaned::Invalid;
+        return INVALID;
     }
     let region = region.map(str::trim).filter(|r| !r.is_empty());
     let international = international_form(raw, region);
@@ -412,17 +573,20 @@ pub fn normalize_phone(raw: &str, region: Option<&str>) -> Cleaned {
         None => parse_with_crate(raw, None),
     };
     let Some((code, national)) = parsed else {
-        return Cleaned::Invalid;
+        return INVALID;
     };
     let e164 = format!("+{code}{national}");
-    if e164.len() - 1 > E164_MAX_DIGITS || !is_valid_number(code, &national) {
-        return Cleaned::Invalid;
+    if e164.len() - 1 > E164_MAX_DIGITS {
+        return INVALID;
     }
+    let Some(kind) = number_type(code, &national) else {
+        return INVALID;
+    };
     let raw_starts_plus = raw.trim_start().starts_with('+');
     if raw_starts_plus && digits_of(raw).eq(digits_of(&e164)) {
-        Cleaned::Parsed(e164)
+        (Cleaned::Parsed(e164), Some(kind))
     } else {
-        Cleaned::Repaired(e164)
+        (Cleaned::Repaired(e164), Some(kind))
     }
 }
 
@@ -487,6 +651,223 @@ mod tests {
                 Cleaned::Invalid,
                 "{raw} {region:?}"
             );
+        }
+    }
+
+    fn typed(raw: &str, region: Option<&str>) -> Option<PhoneType> {
+        normalize_phone_typed(raw, region).1
+    }
+
+    #[test]
+    fn check_values_phone_types() {
+        // CHECK_VALUES.md §5, "type" column (phonenumbers 9.0.43 `number_type`).
+        use PhoneType::*;
+        let rows = [
+            ("(650) 253-0000", Some("US"), FixedLineOrMobile),
+            ("+1 202-555-0143", None, FixedLineOrMobile),
+            ("1-800-FLOWERS", Some("US"), TollFree),
+            ("020 7946 0018", Some("GB"), FixedLine),
+            ("+44 (0)20 7946 0018", None, FixedLine),
+            ("07911 123456", Some("GB"), Mobile),
+            ("030 12345678", Some("DE"), FixedLine),
+            ("0151 23456789", Some("DE"), Mobile),
+            ("089 1234", Some("DE"), FixedLine),
+            ("01 23 45 67 89", Some("FR"), FixedLine),
+            ("06 12 34 56 78", Some("FR"), Mobile),
+            ("912 345 678", Some("ES"), FixedLine),
+            ("+34 612 34 56 78", None, Mobile),
+        ];
+        for (raw, region, want) in rows {
+            assert_eq!(typed(raw, region), Some(want), "{raw} {region:?}");
+            let e = e164(raw, region).unwrap();
+            assert_eq!(phone_type_of_e164(&e), Some(want), "{e}");
+        }
+        // Rows with valid = False have type UNKNOWN: no type.
+        for (raw, region) in [("555-1234", Some("US")), ("07700 900123", Some("GB"))] {
+            assert_eq!(typed(raw, region), None, "{raw}");
+        }
+    }
+
+    #[test]
+    fn example_numbers_have_their_type() {
+        // libphonenumber's example number per type (phonenumber 0.3.10+9.0.33
+        // metadata, `Descriptor::example`). NANP fixed-line and mobile ranges are one
+        // pattern, so US examples are fixed_line_or_mobile.
+        use PhoneType::*;
+        let rows = [
+            ("US", FixedLineOrMobile, FixedLineOrMobile),
+            ("GB", FixedLine, Mobile),
+            ("DE", FixedLine, Mobile),
+            ("FR", FixedLine, Mobile),
+            ("ES", FixedLine, Mobile),
+        ];
+        for (region, fixed, mobile) in rows {
+            let meta = DATABASE.by_id(region).unwrap();
+            let code = meta.country_code();
+            let d = meta.descriptors();
+            let example = |x: Option<&Descriptor>| x.and_then(|x| x.example()).unwrap().to_string();
+            assert_eq!(
+                number_type(code, &example(d.fixed_line())),
+                Some(fixed),
+                "{region}"
+            );
+            assert_eq!(
+                number_type(code, &example(d.mobile())),
+                Some(mobile),
+                "{region}"
+            );
+            assert_eq!(
+                number_type(code, &example(d.toll_free())),
+                Some(TollFree),
+                "{region}"
+            );
+            if let Some(voip) = d.voip().and_then(|x| x.example()) {
+                assert_eq!(number_type(code, voip), Some(Voip), "{region}");
+            }
+            let national = &example(d.mobile());
+            assert_eq!(
+                phone_type_of_e164(&format!("+{code}{national}")),
+                Some(mobile),
+                "{region}"
+            );
+        }
+    }
+
+    fn from_crate(t: phonenumber::Type) -> Option<PhoneType> {
+        use phonenumber::Type as T;
+        Some(match t {
+            T::FixedLine => PhoneType::FixedLine,
+            T::Mobile => PhoneType::Mobile,
+            T::FixedLineOrMobile => PhoneType::FixedLineOrMobile,
+            T::TollFree => PhoneType::TollFree,
+            T::PremiumRate => PhoneType::PremiumRate,
+            T::SharedCost => PhoneType::SharedCost,
+            T::Voip => PhoneType::Voip,
+            T::PersonalNumber => PhoneType::PersonalNumber,
+            T::Pager => PhoneType::Pager,
+            T::Uan => PhoneType::Uan,
+            T::Voicemail => PhoneType::Voicemail,
+            _ => return None,
+        })
+    }
+
+    #[test]
+    fn number_type_agrees_with_crate() {
+        // Reference: the crate's `number_type` (phonenumber 0.3.10+9.0.33) on every
+        // example number of every calling code, and on random valid numbers.
+        let mut checked = 0;
+        let mut types = std::collections::HashSet::new();
+        for code in 1..1000u16 {
+            for meta in DATABASE.by_code(&code).unwrap_or_default() {
+                let d = meta.descriptors();
+                let all = [
+                    d.fixed_line(),
+                    d.mobile(),
+                    d.toll_free(),
+                    d.premium_rate(),
+                    d.shared_cost(),
+                    d.personal_number(),
+                    d.voip(),
+                    d.pager(),
+                    d.uan(),
+                    d.voicemail(),
+                ];
+                for example in all.into_iter().flatten().filter_map(|x| x.example()) {
+                    let Ok(n) = phonenumber::parse(None, format!("+{code}{example}")) else {
+                        continue;
+                    };
+                    // Validity is compared in `own_validity_agrees_with_crate`. The
+                    // crate's `number_type` drops leading zeros of the national number
+                    // (Italian fixed lines come out unknown); those are checked below.
+                    let (c, national) = (n.code().value(), n.national().to_string());
+                    if !n.is_valid() || national.starts_with('0') {
+                        continue;
+                    }
+                    let want = from_crate(n.number_type(&DATABASE));
+                    let got = number_type(c, &national);
+                    assert_eq!(got, want, "+{c} {national}");
+                    types.extend(got);
+                    checked += 1;
+                }
+            }
+        }
+        // Italian numbers keep their leading 0 (libphonenumber `italian_leading_zero`):
+        // the IT example fixed-line and mobile numbers of the metadata.
+        let it = DATABASE.by_id("IT").unwrap().descriptors();
+        let fixed = it.fixed_line().and_then(|d| d.example()).unwrap();
+        assert!(fixed.starts_with('0'), "{fixed}");
+        assert_eq!(number_type(39, fixed), Some(PhoneType::FixedLine));
+        let mobile = it.mobile().and_then(|d| d.example()).unwrap();
+        assert_eq!(number_type(39, mobile), Some(PhoneType::Mobile));
+        for (raw, region) in random_numbers(29, 4000) {
+            let id: Id = region.parse().unwrap();
+            if let Ok(n) = phonenumber::parse(Some(id), &raw) {
+                let national = n.national().to_string();
+                if national.starts_with('0') {
+                    continue;
+                }
+                let want = if n.is_valid() {
+                    from_crate(n.number_type(&DATABASE))
+                } else {
+                    None
+                };
+                assert_eq!(
+                    number_type(n.code().value(), &national),
+                    want,
+                    "{raw} {region}"
+                );
+                checked += 1;
+            }
+        }
+        assert!(checked > 3000, "{checked}");
+        assert!(types.len() >= 8, "{types:?}");
+    }
+
+    #[test]
+    fn phone_type_column_values() {
+        // Standard names are libphonenumber's PhoneNumberType names in snake case;
+        // the other spellings are common practice, no source.
+        for t in PhoneType::ALL {
+            assert_eq!(
+                normalize_phone_type(t.name()),
+                Cleaned::Parsed(t.name().into())
+            );
+            assert_eq!(PhoneType::from_name(t.name()), Some(t));
+        }
+        let repaired = [
+            ("Mobile", "mobile"),
+            (" FIXED LINE ", "fixed_line"),
+            ("fixed-line-or-mobile", "fixed_line_or_mobile"),
+            ("Cell", "mobile"),
+            ("landline", "fixed_line"),
+            ("Toll Free", "toll_free"),
+        ];
+        for (raw, want) in repaired {
+            assert_eq!(
+                normalize_phone_type(raw),
+                Cleaned::Repaired(want.into()),
+                "{raw}"
+            );
+        }
+        for raw in ["", "work", "home", "mobile2", "fixed line 2"] {
+            assert_eq!(normalize_phone_type(raw), Cleaned::Invalid, "{raw}");
+        }
+        assert_eq!(phone_type_of_e164("+"), None);
+        assert_eq!(phone_type_of_e164("4930123"), None);
+        assert_eq!(phone_type_of_e164("+49 30 12345678"), None);
+        assert_eq!(phone_type_of_e164("+999123456789"), None);
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn valid_numbers_and_only_they_have_a_type(raw in "\\+?[0-9 ()-]{0,18}", r in 0usize..6) {
+            let region = ["US", "GB", "DE", "FR", "ES", ""][r];
+            let (cleaned, kind) = normalize_phone_typed(&raw, Some(region));
+            let value = cleaned.into_value();
+            proptest::prop_assert_eq!(value.is_some(), kind.is_some());
+            if let Some(v) = value {
+                proptest::prop_assert_eq!(phone_type_of_e164(&v), kind);
+            }
         }
     }
 
