@@ -1041,6 +1041,7 @@ impl SourceSpec {
                 || (*a == Attr::FullName && matches!(attr, Attr::GivenName | Attr::FamilyName))
                 || (*a == Attr::Street && attr == Attr::HouseNumber)
                 || (*a == Attr::Company && attr == Attr::LegalForm)
+                || (*a == Attr::Phone && attr == Attr::PhoneType)
         })
     }
 }
