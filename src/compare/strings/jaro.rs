@@ -337,7 +337,7 @@ impl JaroMatcher {
 const LANES: usize = 2;
 
 /// Jaro of an all-ASCII `pattern` (at most 64 bytes, described by `table`, whose upper half
-/// is zero) against `LANES` all-ASCII texts at once, followed by the Winkler boost. Each lane
+/// is zero; `padded` is the pattern followed by zeros) against `LANES` all-ASCII texts at once, followed by the Winkler boost. Each lane
 /// runs the same steps as [`jaro_bits`] (and gives the same bits): first all lanes together
 /// for as many steps as the shortest needs, then each lane alone for the rest.
 // The lanes' state lives in parallel arrays stepped in lockstep; indexing reads best.
@@ -345,6 +345,7 @@ const LANES: usize = 2;
 #[inline(always)]
 fn jaro_winkler_ascii_lanes(
     pattern: &[u8],
+    padded: &[u8; MAX_BITS],
     table: &[u64; 256],
     texts: [&[u8]; LANES],
 ) -> [f64; LANES] {
@@ -397,22 +398,28 @@ fn jaro_winkler_ascii_lanes(
                 0.0
             }
         } else {
+            // As many steps as the pattern is long, not `m`: the count is then the same for
+            // every text of a batch and the loop's end is predicted. Steps past `m` add 0.
             let mut half = 0usize;
             let mut rest = used[k];
-            for &c in matched[k].iter().take(m[k]) {
-                let j = rest.trailing_zeros() as usize;
+            for &c in matched[k].iter().take(p_len) {
+                let j = rest.trailing_zeros() as usize & (MAX_BITS - 1);
+                let live = rest != 0;
                 rest &= rest.wrapping_sub(1);
-                half += usize::from(pattern.get(j) != Some(&c));
+                half += usize::from(live & (padded[j] != c));
             }
             formula(m[k], half, p_len, t_len)
         };
         out[k] = winkler(sim, || {
-            pattern
-                .iter()
-                .zip(text)
-                .take(WINKLER_MAX_PREFIX)
-                .take_while(|(x, y)| x == y)
-                .count()
+            // Common prefix without an early exit (its length is unpredictable).
+            let n = p_len.min(t_len).min(WINKLER_MAX_PREFIX);
+            let mut run = true;
+            let mut prefix = 0;
+            for x in 0..WINKLER_MAX_PREFIX {
+                run &= (x < n) & (padded[x] == text.get(x).copied().unwrap_or(0));
+                prefix += usize::from(run);
+            }
+            prefix
         });
     }
     out
@@ -514,12 +521,16 @@ impl JaroMatcher {
             return;
         };
         let pattern = self.query.as_bytes();
+        let mut padded = [0u8; MAX_BITS];
+        for (slot, &b) in padded.iter_mut().zip(pattern) {
+            *slot = b;
+        }
         let mut t_chunks = texts.chunks_exact(LANES);
         let mut o_chunks = out.chunks_exact_mut(LANES);
         for (ts, os) in (&mut t_chunks).zip(&mut o_chunks) {
             if ts.iter().all(|t| is_ascii(t)) {
                 let lanes = std::array::from_fn(|k| ts[k].as_bytes());
-                os.copy_from_slice(&jaro_winkler_ascii_lanes(pattern, &table, lanes));
+                os.copy_from_slice(&jaro_winkler_ascii_lanes(pattern, &padded, &table, lanes));
             } else {
                 for (o, t) in os.iter_mut().zip(ts) {
                     *o = self.jaro_winkler(t);
@@ -552,6 +563,10 @@ impl JaroMatcher {
             return;
         };
         let pattern = self.query.as_bytes();
+        let mut padded = [0u8; MAX_BITS];
+        for (slot, &b) in padded.iter_mut().zip(pattern) {
+            *slot = b;
+        }
         let out = &mut out[..n];
         for (i, o) in out.iter_mut().enumerate() {
             if !corpus.ascii[i] {
@@ -567,7 +582,7 @@ impl JaroMatcher {
             slots[filled] = i;
             filled += 1;
             if filled == LANES {
-                let scores = jaro_winkler_ascii_lanes(pattern, &table, lanes);
+                let scores = jaro_winkler_ascii_lanes(pattern, &padded, &table, lanes);
                 for (k, s) in scores.into_iter().enumerate() {
                     out[slots[k]] = s;
                 }
