@@ -445,12 +445,20 @@ pub struct JaroCorpus {
     text: String,
     /// Byte range of each text in `text`.
     spans: Vec<(usize, usize)>,
-    /// Whether each text is all ASCII.
-    ascii: Vec<bool>,
-    /// The all-ASCII texts by byte length, so that texts scored side by side take about the
-    /// same number of steps.
+    /// Each text with one byte per `char`: ASCII characters as they are, any other as
+    /// [`NOT_ASCII`]. An all-ASCII query matches, and shares a prefix with, the very same
+    /// positions of this form as of the text itself, so it gets the same score from it.
+    folded: Vec<u8>,
+    /// Byte range of each text in `folded`.
+    folded_spans: Vec<(usize, usize)>,
+    /// Text indices by folded length, so that texts scored side by side take about the same
+    /// number of steps.
     by_length: Vec<usize>,
 }
+
+/// Stands for any non-ASCII character in [`JaroCorpus`]'s folded texts; equal to no ASCII
+/// byte, and its entry in the kernel's byte table is zero.
+const NOT_ASCII: u8 = 0x80;
 
 impl JaroCorpus {
     /// Prepare `texts` (in order; text `i` gets score `i`).
@@ -465,12 +473,24 @@ impl JaroCorpus {
             let start = corpus.text.len();
             corpus.text.push_str(t);
             corpus.spans.push((start, corpus.text.len()));
-            corpus.ascii.push(is_ascii(t));
+            let start = corpus.folded.len();
+            if is_ascii(t) {
+                corpus.folded.extend_from_slice(t.as_bytes());
+            } else {
+                let fold = |c: char| {
+                    u8::try_from(c)
+                        .ok()
+                        .filter(u8::is_ascii)
+                        .unwrap_or(NOT_ASCII)
+                };
+                corpus.folded.extend(t.chars().map(fold));
+            }
+            corpus.folded_spans.push((start, corpus.folded.len()));
         }
-        corpus.by_length = (0..corpus.len()).filter(|&i| corpus.ascii[i]).collect();
+        corpus.by_length = (0..corpus.len()).collect();
         corpus
             .by_length
-            .sort_by_key(|&i| corpus.spans[i].1 - corpus.spans[i].0);
+            .sort_by_key(|&i| corpus.folded_spans[i].1 - corpus.folded_spans[i].0);
         corpus
     }
 
@@ -550,11 +570,12 @@ impl JaroMatcher {
     /// `self.jaro_winkler(corpus.get(i))`, bit for bit. Scores the first
     /// `min(corpus.len(), out.len())` texts; further elements of `out` are left as they are.
     ///
-    /// The quickest way to fill an all-against-all score matrix: the ASCII checks were done
-    /// when the corpus was built, and all-ASCII texts are scored several at a time.
+    /// The quickest way to fill an all-against-all score matrix: the texts were checked and
+    /// folded to bytes when the corpus was built, and an all-ASCII query of at most 64
+    /// characters scores them several at a time, whatever characters they hold.
     pub fn jaro_winkler_corpus(&self, corpus: &JaroCorpus, out: &mut [f64]) {
         let n = corpus.len().min(out.len());
-        let bytes = corpus.text.as_bytes();
+        let bytes = corpus.folded.as_slice();
         let slow = |i: usize| self.jaro_winkler(corpus.get(i).unwrap_or_default());
         let Some(table) = self.byte_table() else {
             for (i, o) in out[..n].iter_mut().enumerate() {
@@ -568,16 +589,11 @@ impl JaroMatcher {
             *slot = b;
         }
         let out = &mut out[..n];
-        for (i, o) in out.iter_mut().enumerate() {
-            if !corpus.ascii[i] {
-                *o = slow(i);
-            }
-        }
         let mut lanes: [&[u8]; LANES] = [&[]; LANES];
         let mut slots = [0usize; LANES];
         let mut filled = 0;
         for &i in corpus.by_length.iter().filter(|&&i| i < n) {
-            let (a, b) = corpus.spans[i];
+            let (a, b) = corpus.folded_spans[i];
             lanes[filled] = bytes.get(a..b).unwrap_or_default();
             slots[filled] = i;
             filled += 1;
