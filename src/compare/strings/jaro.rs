@@ -892,6 +892,31 @@ mod tests {
     }
 
     #[test]
+    fn corpus_folding_keeps_non_ascii_distinct() {
+        // Non-ASCII characters (Latin-1 ones whose code is one byte, and wider ones) become one
+        // stand-in byte; an ASCII query must still score them exactly as strsim does.
+        let texts = [
+            "M\u{dc}LLER",
+            "M\u{20ac}LLER",
+            "MULLER\u{1f600}",
+            "\u{dc}\u{dc}\u{dc}",
+            "\u{80}",
+        ];
+        let corpus = JaroCorpus::new(texts);
+        for q in ["MULLER", "MLLER", "\u{7f}", "M"] {
+            let mut out = [f64::NAN; 5];
+            JaroMatcher::new(q).jaro_winkler_corpus(&corpus, &mut out);
+            for (t, s) in texts.iter().zip(out) {
+                assert_eq!(
+                    s.to_bits(),
+                    strsim::jaro_winkler(q, t).to_bits(),
+                    "{q:?} {t:?}"
+                );
+            }
+        }
+    }
+
+    #[test]
     fn batch_apis_score_only_what_fits() {
         let m = JaroMatcher::new("JON");
         let mut out = [-1.0; 3];
