@@ -13,7 +13,7 @@ use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use kinlink::compare::strings::{
-    jaro_winkler, levenshtein, levenshtein_within, osa_distance, soundex, JaroMatcher,
+    jaro_winkler, levenshtein, levenshtein_within, osa_distance, soundex, JaroCorpus, JaroMatcher,
 };
 use kinlink::util::Rng;
 use rphonetic::Encoder;
@@ -165,6 +165,35 @@ fn bench_jaro_winkler_one_vs_many(c: &mut Criterion) {
                 for n in names {
                     sum += m.jaro_winkler(black_box(n));
                 }
+            }
+            sum
+        })
+    });
+    let texts: Vec<&str> = names.iter().map(String::as_str).collect();
+    let corpus = JaroCorpus::new(&texts);
+    let mut row = vec![0.0; texts.len()];
+    for q in &queries {
+        JaroMatcher::new(q).jaro_winkler_corpus(&corpus, &mut row);
+        for (n, s) in names.iter().zip(&row) {
+            assert_eq!(*s, strsim::jaro_winkler(q, n));
+        }
+    }
+    g.bench_function("kinlink_matcher_many", |bch| {
+        bch.iter(|| {
+            let mut sum = 0.0;
+            for q in &queries {
+                JaroMatcher::new(q).jaro_winkler_many(black_box(&texts), &mut row);
+                sum += row.iter().sum::<f64>();
+            }
+            sum
+        })
+    });
+    g.bench_function("kinlink_matcher_corpus", |bch| {
+        bch.iter(|| {
+            let mut sum = 0.0;
+            for q in &queries {
+                JaroMatcher::new(q).jaro_winkler_corpus(black_box(&corpus), &mut row);
+                sum += row.iter().sum::<f64>();
             }
             sum
         })

@@ -332,6 +332,285 @@ impl JaroMatcher {
     }
 }
 
+/// Texts scored side by side by the batch kernel: independent texts give the processor
+/// independent chains of work (the matching loop of one pair is one long dependency chain).
+const LANES: usize = 2;
+
+/// Jaro of an all-ASCII `pattern` (at most 64 bytes, described by `table`, whose upper half
+/// is zero; `padded` is the pattern followed by zeros) against `LANES` all-ASCII texts at once, followed by the Winkler boost. Each lane
+/// runs the same steps as [`jaro_bits`] (and gives the same bits): first all lanes together
+/// for as many steps as the shortest needs, then each lane alone for the rest.
+// The lanes' state lives in parallel arrays stepped in lockstep; indexing reads best.
+#[allow(clippy::needless_range_loop)]
+#[inline(always)]
+fn jaro_winkler_ascii_lanes(
+    pattern: &[u8],
+    padded: &[u8; MAX_BITS],
+    table: &[u64; 256],
+    texts: [&[u8]; LANES],
+) -> [f64; LANES] {
+    let p_len = pattern.len();
+    let mut d = [0usize; LANES];
+    let mut stop = [0usize; LANES];
+    let mut window = [0u64; LANES];
+    let mut used = [0u64; LANES];
+    let mut m = [0usize; LANES];
+    // At most 64 matches; 128 slots let `m & 127` index without a check.
+    let mut matched = [[0u8; 2 * MAX_BITS]; LANES];
+    for k in 0..LANES {
+        let t_len = texts[k].len();
+        d[k] = (p_len.max(t_len) / 2).saturating_sub(1);
+        stop[k] = (p_len + d[k]).min(t_len);
+        window[k] = low_bits(d[k] + 1);
+    }
+    let common = stop.iter().copied().min().unwrap_or(0);
+    let heads: [&[u8]; LANES] = std::array::from_fn(|k| &texts[k][..common]);
+    macro_rules! step {
+        ($k:expr, $i:expr, $c:expr) => {{
+            let (k, i, c) = ($k, $i, $c);
+            let candidates = table[usize::from(c)] & window[k] & !used[k];
+            // Branch-free: whether a symbol matches is unpredictable for real names.
+            let lowest = candidates & candidates.wrapping_neg();
+            used[k] |= lowest;
+            matched[k][m[k] & (2 * MAX_BITS - 1)] = c;
+            m[k] += usize::from(lowest != 0);
+            window[k] = (window[k] << 1) | u64::from(i < d[k]);
+        }};
+    }
+    for i in 0..common {
+        for k in 0..LANES {
+            step!(k, i, heads[k][i]);
+        }
+    }
+    for k in 0..LANES {
+        for (i, &c) in texts[k].iter().enumerate().take(stop[k]).skip(common) {
+            step!(k, i, c);
+        }
+    }
+    let mut out = [0.0; LANES];
+    for k in 0..LANES {
+        let text = texts[k];
+        let t_len = text.len();
+        let sim = if p_len == 0 || t_len == 0 {
+            if p_len == 0 && t_len == 0 {
+                1.0
+            } else {
+                0.0
+            }
+        } else {
+            // As many steps as the pattern is long, not `m`: the count is then the same for
+            // every text of a batch and the loop's end is predicted. Steps past `m` add 0.
+            let mut half = 0usize;
+            let mut rest = used[k];
+            for &c in matched[k].iter().take(p_len) {
+                let j = rest.trailing_zeros() as usize & (MAX_BITS - 1);
+                let live = rest != 0;
+                rest &= rest.wrapping_sub(1);
+                half += usize::from(live & (padded[j] != c));
+            }
+            formula(m[k], half, p_len, t_len)
+        };
+        out[k] = winkler(sim, || {
+            // Common prefix without an early exit (its length is unpredictable).
+            let n = p_len.min(t_len).min(WINKLER_MAX_PREFIX);
+            let mut run = true;
+            let mut prefix = 0;
+            for x in 0..WINKLER_MAX_PREFIX {
+                run &= (x < n) & (padded[x] == text.get(x).copied().unwrap_or(0));
+                prefix += usize::from(run);
+            }
+            prefix
+        });
+    }
+    out
+}
+
+/// Many strings prepared once for comparison against many queries, as in an all-against-all
+/// score matrix: the bytes of all texts in one buffer, with each text's place and whether it
+/// is all ASCII, so that [`JaroMatcher::jaro_winkler_corpus`] does no per-pair checks.
+///
+/// ```
+/// use kinlink::compare::strings::{jaro_winkler, JaroCorpus, JaroMatcher};
+/// let names = ["DUANE", "DWAYNE", "DEWAYNE", "MÜLLER"];
+/// let corpus = JaroCorpus::new(names);
+/// let mut scores = vec![0.0; corpus.len()];
+/// JaroMatcher::new("DWAYNE").jaro_winkler_corpus(&corpus, &mut scores);
+/// for (name, score) in names.iter().zip(&scores) {
+///     assert_eq!(*score, jaro_winkler("DWAYNE", name));
+/// }
+/// ```
+#[derive(Clone, Debug, Default)]
+pub struct JaroCorpus {
+    /// All texts, one after the other.
+    text: String,
+    /// Byte range of each text in `text`.
+    spans: Vec<(usize, usize)>,
+    /// Each text with one byte per `char`: ASCII characters as they are, any other as
+    /// [`NOT_ASCII`]. An all-ASCII query matches, and shares a prefix with, the very same
+    /// positions of this form as of the text itself, so it gets the same score from it.
+    folded: Vec<u8>,
+    /// Byte range of each text in `folded`.
+    folded_spans: Vec<(usize, usize)>,
+    /// Text indices by folded length, so that texts scored side by side take about the same
+    /// number of steps.
+    by_length: Vec<usize>,
+}
+
+/// Stands for any non-ASCII character in [`JaroCorpus`]'s folded texts; equal to no ASCII
+/// byte, and its entry in the kernel's byte table is zero.
+const NOT_ASCII: u8 = 0x80;
+
+impl JaroCorpus {
+    /// Prepare `texts` (in order; text `i` gets score `i`).
+    pub fn new<I, S>(texts: I) -> Self
+    where
+        I: IntoIterator<Item = S>,
+        S: AsRef<str>,
+    {
+        let mut corpus = JaroCorpus::default();
+        for t in texts {
+            let t = t.as_ref();
+            let start = corpus.text.len();
+            corpus.text.push_str(t);
+            corpus.spans.push((start, corpus.text.len()));
+            let start = corpus.folded.len();
+            if is_ascii(t) {
+                corpus.folded.extend_from_slice(t.as_bytes());
+            } else {
+                let fold = |c: char| {
+                    u8::try_from(c)
+                        .ok()
+                        .filter(u8::is_ascii)
+                        .unwrap_or(NOT_ASCII)
+                };
+                corpus.folded.extend(t.chars().map(fold));
+            }
+            corpus.folded_spans.push((start, corpus.folded.len()));
+        }
+        corpus.by_length = (0..corpus.len()).collect();
+        corpus
+            .by_length
+            .sort_by_key(|&i| corpus.folded_spans[i].1 - corpus.folded_spans[i].0);
+        corpus
+    }
+
+    /// Number of texts.
+    pub fn len(&self) -> usize {
+        self.spans.len()
+    }
+
+    /// Whether there are no texts.
+    pub fn is_empty(&self) -> bool {
+        self.spans.is_empty()
+    }
+
+    /// Text `i`, or `None` past the end.
+    pub fn get(&self, i: usize) -> Option<&str> {
+        let &(a, b) = self.spans.get(i)?;
+        self.text.get(a..b)
+    }
+}
+
+impl JaroMatcher {
+    /// The query's pattern table indexed by any byte (zero above 127), when the all-ASCII
+    /// byte kernel applies to the query.
+    fn byte_table(&self) -> Option<[u64; 256]> {
+        match &self.masks {
+            Some(masks) if self.ascii => {
+                let mut table = [0u64; 256];
+                table[..128].copy_from_slice(masks.ascii_table());
+                Some(table)
+            }
+            _ => None,
+        }
+    }
+
+    /// Jaro–Winkler similarity of the query and each of `texts`: `out[i]` becomes
+    /// `self.jaro_winkler(texts[i])`, bit for bit. Scores the first
+    /// `min(texts.len(), out.len())` texts; further elements of `out` are left as they are.
+    ///
+    /// Quicker than calling [`JaroMatcher::jaro_winkler`] in a loop: all-ASCII texts are
+    /// scored several at a time against an all-ASCII query of at most 64 characters.
+    pub fn jaro_winkler_many(&self, texts: &[&str], out: &mut [f64]) {
+        let n = texts.len().min(out.len());
+        let (texts, out) = (&texts[..n], &mut out[..n]);
+        let Some(table) = self.byte_table() else {
+            for (o, t) in out.iter_mut().zip(texts) {
+                *o = self.jaro_winkler(t);
+            }
+            return;
+        };
+        let pattern = self.query.as_bytes();
+        let mut padded = [0u8; MAX_BITS];
+        for (slot, &b) in padded.iter_mut().zip(pattern) {
+            *slot = b;
+        }
+        let mut t_chunks = texts.chunks_exact(LANES);
+        let mut o_chunks = out.chunks_exact_mut(LANES);
+        for (ts, os) in (&mut t_chunks).zip(&mut o_chunks) {
+            if ts.iter().all(|t| is_ascii(t)) {
+                let lanes = std::array::from_fn(|k| ts[k].as_bytes());
+                os.copy_from_slice(&jaro_winkler_ascii_lanes(pattern, &padded, &table, lanes));
+            } else {
+                for (o, t) in os.iter_mut().zip(ts) {
+                    *o = self.jaro_winkler(t);
+                }
+            }
+        }
+        for (o, t) in o_chunks
+            .into_remainder()
+            .iter_mut()
+            .zip(t_chunks.remainder())
+        {
+            *o = self.jaro_winkler(t);
+        }
+    }
+
+    /// Jaro–Winkler similarity of the query and each text of `corpus`: `out[i]` becomes
+    /// `self.jaro_winkler(corpus.get(i))`, bit for bit. Scores the first
+    /// `min(corpus.len(), out.len())` texts; further elements of `out` are left as they are.
+    ///
+    /// The quickest way to fill an all-against-all score matrix: the texts were checked and
+    /// folded to bytes when the corpus was built, and an all-ASCII query of at most 64
+    /// characters scores them several at a time, whatever characters they hold.
+    pub fn jaro_winkler_corpus(&self, corpus: &JaroCorpus, out: &mut [f64]) {
+        let n = corpus.len().min(out.len());
+        let bytes = corpus.folded.as_slice();
+        let slow = |i: usize| self.jaro_winkler(corpus.get(i).unwrap_or_default());
+        let Some(table) = self.byte_table() else {
+            for (i, o) in out[..n].iter_mut().enumerate() {
+                *o = slow(i);
+            }
+            return;
+        };
+        let pattern = self.query.as_bytes();
+        let mut padded = [0u8; MAX_BITS];
+        for (slot, &b) in padded.iter_mut().zip(pattern) {
+            *slot = b;
+        }
+        let out = &mut out[..n];
+        let mut lanes: [&[u8]; LANES] = [&[]; LANES];
+        let mut slots = [0usize; LANES];
+        let mut filled = 0;
+        for &i in corpus.by_length.iter().filter(|&&i| i < n) {
+            let (a, b) = corpus.folded_spans[i];
+            lanes[filled] = bytes.get(a..b).unwrap_or_default();
+            slots[filled] = i;
+            filled += 1;
+            if filled == LANES {
+                let scores = jaro_winkler_ascii_lanes(pattern, &padded, &table, lanes);
+                for (k, s) in scores.into_iter().enumerate() {
+                    out[slots[k]] = s;
+                }
+                filled = 0;
+            }
+        }
+        for k in 0..filled {
+            out[slots[k]] = slow(slots[k]);
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -576,6 +855,85 @@ mod tests {
         );
     }
 
+    #[test]
+    fn batch_apis_equal_single_calls() {
+        // Rows of LIBRARY_ROWS (values from jellyfish/rapidfuzz, see above) scored in batches:
+        // every query against every text, ASCII and not, shorter and longer than 64 bytes.
+        let long = "ANDERSONVILLE ".repeat(6);
+        let mut texts: Vec<&str> = LIBRARY_ROWS.iter().flat_map(|r| [r.0, r.1]).collect();
+        texts.extend(["M\u{fc}ller", "Mu\u{308}ller", long.as_str(), ""]);
+        let corpus = JaroCorpus::new(&texts);
+        assert_eq!(corpus.len(), texts.len());
+        assert!(!corpus.is_empty());
+        for (i, t) in texts.iter().enumerate() {
+            assert_eq!(corpus.get(i), Some(*t));
+        }
+        assert_eq!(corpus.get(texts.len()), None);
+        let mut many = vec![f64::NAN; texts.len()];
+        let mut from_corpus = vec![f64::NAN; texts.len()];
+        for q in texts.iter().chain([&"PREFIX", &"\u{fc}"]) {
+            let m = JaroMatcher::new(q);
+            m.jaro_winkler_many(&texts, &mut many);
+            m.jaro_winkler_corpus(&corpus, &mut from_corpus);
+            for (k, t) in texts.iter().enumerate() {
+                let want = strsim::jaro_winkler(q, t);
+                assert_eq!(many[k].to_bits(), want.to_bits(), "many {q:?} {t:?}");
+                assert_eq!(
+                    from_corpus[k].to_bits(),
+                    want.to_bits(),
+                    "corpus {q:?} {t:?}"
+                );
+            }
+        }
+        // Published pair, CHECK_VALUES §1 (jellyfish 1.3.0 / rapidfuzz 3.14.6): 0.961111.
+        let mut one = [0.0];
+        JaroMatcher::new("MARTHA").jaro_winkler_many(&["MARHTA"], &mut one);
+        assert!((one[0] - 0.961111).abs() < 5e-7);
+    }
+
+    #[test]
+    fn corpus_folding_keeps_non_ascii_distinct() {
+        // Non-ASCII characters (Latin-1 ones whose code is one byte, and wider ones) become one
+        // stand-in byte; an ASCII query must still score them exactly as strsim does.
+        let texts = [
+            "M\u{dc}LLER",
+            "M\u{20ac}LLER",
+            "MULLER\u{1f600}",
+            "\u{dc}\u{dc}\u{dc}",
+            "\u{80}",
+        ];
+        let corpus = JaroCorpus::new(texts);
+        for q in ["MULLER", "MLLER", "\u{7f}", "M"] {
+            let mut out = [f64::NAN; 5];
+            JaroMatcher::new(q).jaro_winkler_corpus(&corpus, &mut out);
+            for (t, s) in texts.iter().zip(out) {
+                assert_eq!(
+                    s.to_bits(),
+                    strsim::jaro_winkler(q, t).to_bits(),
+                    "{q:?} {t:?}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn batch_apis_score_only_what_fits() {
+        let m = JaroMatcher::new("JON");
+        let mut out = [-1.0; 3];
+        m.jaro_winkler_many(&["JOHN"], &mut out);
+        assert_eq!(out[0], jaro_winkler("JON", "JOHN"));
+        assert_eq!(out[1..], [-1.0, -1.0]);
+        let corpus = JaroCorpus::new(["JOHN", "JAN", "JONES"]);
+        let mut short = [-1.0; 2];
+        m.jaro_winkler_corpus(&corpus, &mut short);
+        assert_eq!(
+            short,
+            [jaro_winkler("JON", "JOHN"), jaro_winkler("JON", "JAN")]
+        );
+        m.jaro_winkler_corpus(&JaroCorpus::default(), &mut out);
+        assert_eq!(out[1..], [-1.0, -1.0]);
+    }
+
     /// Short names over a small alphabet, so that repeated letters and transpositions are
     /// frequent; sometimes with non-ASCII letters.
     fn short_name() -> impl Strategy<Value = String> {
@@ -599,6 +957,25 @@ mod tests {
 
     proptest! {
         #![proptest_config(ProptestConfig::with_cases(2000))]
+
+        #[test]
+        fn batch_apis_equal_strsim(
+            a in any_string(),
+            bs in prop::collection::vec(any_string(), 0..12),
+        ) {
+            let matcher = JaroMatcher::new(&a);
+            let texts: Vec<&str> = bs.iter().map(String::as_str).collect();
+            let corpus = JaroCorpus::new(&texts);
+            let mut many = vec![f64::NAN; texts.len()];
+            let mut from_corpus = vec![f64::NAN; texts.len()];
+            matcher.jaro_winkler_many(&texts, &mut many);
+            matcher.jaro_winkler_corpus(&corpus, &mut from_corpus);
+            for (k, b) in texts.iter().enumerate() {
+                let want = strsim::jaro_winkler(&a, b).to_bits();
+                prop_assert_eq!(many[k].to_bits(), want, "many {:?} {:?}", a, b);
+                prop_assert_eq!(from_corpus[k].to_bits(), want, "corpus {:?} {:?}", a, b);
+            }
+        }
 
         #[test]
         fn equals_strsim(a in any_string(), b in any_string()) {

@@ -150,6 +150,12 @@ impl CharMasks {
         }
     }
 
+    /// The table of positions of each ASCII character.
+    #[inline(always)]
+    pub(crate) fn ascii_table(&self) -> &[u64; 128] {
+        &self.ascii
+    }
+
     /// Positions of the ASCII byte `b` in the pattern.
     #[inline(always)]
     pub(crate) fn get_ascii(&self, b: u8) -> u64 {

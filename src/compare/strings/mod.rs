@@ -8,7 +8,7 @@
 //! | function | result | matches |
 //! |---|---|---|
 //! | [`jaro`], [`jaro_winkler`] | similarity in `[0, 1]` | `strsim::jaro`, `strsim::jaro_winkler`, jellyfish 1.x and rapidfuzz 3.x defaults |
-//! | [`JaroMatcher`] | the same, one query against many strings | the free functions |
+//! | [`JaroMatcher`], [`JaroCorpus`] | the same, one query against many strings | the free functions |
 //! | [`levenshtein`], [`levenshtein_within`] | edit distance (optionally bounded) | `strsim::levenshtein` |
 //! | [`osa_distance`] | edit distance with adjacent swaps | `strsim::osa_distance` |
 //! | [`soundex`] | American Soundex code | `rphonetic` on ASCII input |
@@ -24,7 +24,7 @@ mod soundex;
 
 pub use edit::{levenshtein, levenshtein_within, osa_distance};
 pub use jaro::{
-    jaro, jaro_winkler, JaroMatcher, WINKLER_BOOST_THRESHOLD, WINKLER_MAX_PREFIX,
+    jaro, jaro_winkler, JaroCorpus, JaroMatcher, WINKLER_BOOST_THRESHOLD, WINKLER_MAX_PREFIX,
     WINKLER_PREFIX_SCALE,
 };
 pub use soundex::soundex;
