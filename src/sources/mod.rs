@@ -623,6 +623,21 @@ keys = ["family_name"]
     }
 
     #[test]
+    fn a_character_split_by_a_delimiter_is_invalid_utf8() {
+        // The row's bytes without delimiters are valid UTF-8 ("é"), its fields are not.
+        let dir = tempfile::tempdir().unwrap();
+        let spec = spec_for(dir.path(), b"id,last,mail\n1,Sm\xc3,\xa9@x.org\n2,Ok,\n");
+        let got = load(&spec).unwrap();
+        assert_eq!(got.table.id, vec!["2"]);
+        assert_eq!(got.rejects.len(), 1);
+        assert!(
+            got.rejects[0].reason.contains("column `last` (field 2)"),
+            "{:?}",
+            got.rejects[0]
+        );
+    }
+
+    #[test]
     fn unknown_column_lists_headers() {
         let dir = tempfile::tempdir().unwrap();
         let spec = spec_for(dir.path(), b"id,surname,mail\n1,Smith,a@x.org\n");
@@ -666,12 +681,30 @@ keys = ["family_name"]
         };
         crate::synth::write_dataset(&crate::synth::generate(&cfg), dir).unwrap();
         let spec = Spec::load(&dir.join("spec.toml")).unwrap();
-        let mut f = std::fs::OpenOptions::new()
-            .append(true)
-            .open(&spec.sources[0].path)
-            .unwrap();
-        f.write_all(b"ragged,row\n,,,,,,,,,,,,,,,\n\"unterminated\n")
-            .unwrap();
+        // Rows to reject, spread over the files (the first has no quoted newlines).
+        let path = &spec.sources[0].path;
+        let text = std::fs::read(path).unwrap();
+        let fields = text
+            .split(|&b| b == b'\n')
+            .next()
+            .unwrap()
+            .split(|&b| b == b',')
+            .count();
+        let commas = ",".repeat(fields - 1);
+        let bad_utf8 = [b"x\xff".as_slice(), commas.as_bytes(), b"\n"].concat();
+        let empty_id = format!("{commas}\n");
+        let mut out = Vec::new();
+        for (i, line) in text.split_inclusive(|&b| b == b'\n').enumerate() {
+            out.extend_from_slice(line);
+            match i {
+                5 => out.extend_from_slice(b"ragged,row\n"),
+                60 => out.extend_from_slice(&bad_utf8),
+                61 => out.extend_from_slice(empty_id.as_bytes()),
+                _ => {}
+            }
+        }
+        out.extend_from_slice(b"ragged,row\n\"unterminated\n");
+        std::fs::write(path, out).unwrap();
         spec
     }
 
@@ -697,7 +730,18 @@ keys = ["family_name"]
         // One row at a time on one thread is the plain sequential order.
         let reference = run(1, 1, 1);
         assert!(reference.table.len() > 1000, "{}", reference.table.len());
-        assert!(!reference.rejects.is_empty());
+        let reasons: Vec<&str> = reference
+            .rejects
+            .iter()
+            .map(|r| r.reason.as_str())
+            .collect();
+        assert_eq!(reasons.len(), 5, "{reasons:?}");
+        for (reason, expected) in reasons
+            .iter()
+            .zip(["fields", "UTF-8", "empty id", "fields"])
+        {
+            assert!(reason.contains(expected), "{reasons:?}");
+        }
         let mut last = 0;
         for (i, rows) in reference.table.source.iter().enumerate() {
             assert!(*rows >= last, "records out of source order at {i}");
