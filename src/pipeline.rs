@@ -127,11 +127,15 @@ const CHUNKS_PER_THREAD: usize = 16;
 
 fn chunks(tasks: &[Task]) -> Vec<&[Task]> {
     let want = rayon::current_num_threads().max(1) * CHUNKS_PER_THREAD;
-    let size = tasks.len().div_ceil(want.max(1)).max(1);
-    // Chunk size is fixed by the thread count, but results are combined in task order,
-    // so the outcome is the same for any chunking.
+    // At most MAX_CHUNK_TASKS per chunk, so that a wave of chunks (pairs text waiting to
+    // be written in order) stays small however many pairs there are. Results are
+    // combined in task order, so the outcome is the same for any chunking.
+    let size = tasks.len().div_ceil(want.max(1)).clamp(1, MAX_CHUNK_TASKS);
     tasks.chunks(size).collect()
 }
+
+/// Most tasks (blocks or slices of large blocks) in one chunk of parallel work.
+const MAX_CHUNK_TASKS: usize = 4096;
 
 /// Run the whole pipeline and write the outputs.
 pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
