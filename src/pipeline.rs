@@ -546,7 +546,7 @@ fn count_patterns(
         .iter()
         .zip(total_new.into_iter().zip(total_all))
         .map(|(b, (counts, all_counts))| {
-            let key_attrs: Vec<_> = b.keys.iter().map(|p| p.attr).collect();
+            let key_attrs = crate::block::key_attrs(b);
             KeyCounts {
                 name: b.name.clone(),
                 excluded: comparison
@@ -979,7 +979,7 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
                 *x += y;
             }
         }
-        let key_attrs: Vec<_> = spec_b.keys.iter().map(|part| part.attr).collect();
+        let key_attrs = crate::block::key_attrs(spec_b);
         let excluded: Vec<bool> = comparison
             .comparators
             .iter()
@@ -1167,11 +1167,4 @@ pub fn explain(
         decision: classifier.decide(classifier.score(weight, prior)),
         blocked_by,
     })
-}
-
-/// Read a spec and run it (convenience for commands and tests).
-pub fn run_spec(spec_path: &Path, opts: &RunOptions) -> Result<(Spec, RunSummary)> {
-    let spec = Spec::load(spec_path)?;
-    let summary = run(&spec, opts)?;
-    Ok((spec, summary))
 }

@@ -399,11 +399,6 @@ impl<'a> Scorer<'a> {
         }
     }
 
-    /// True when pairs of blocking key `key` are scored with that key's own fit.
-    pub fn is_local(&self, key: usize) -> bool {
-        self.keys.get(key).is_some_and(|m| m.is_some())
-    }
-
     /// log2 prior odds of a match for pairs of blocking key `key` (`None`: any pair).
     #[inline]
     pub fn prior(&self, key: Option<usize>) -> f64 {
@@ -445,19 +440,6 @@ impl<'a> Scorer<'a> {
             .map(|k| self.contribution(key, k, gamma[k], a))
             .sum()
     }
-}
-
-/// Match weight of a comparison vector (without value-frequency adjustments).
-#[inline]
-pub fn weight_of(weights: &[Vec<f64>], gamma: &Gamma) -> f64 {
-    let mut w = 0.0;
-    for (k, row) in weights.iter().enumerate() {
-        let code = gamma[k];
-        if code != MISSING_LEVEL {
-            w += row[code as usize];
-        }
-    }
-    w
 }
 
 /// Level counts among random record pairs: `[attribute][level]`, and pairs drawn.

@@ -399,19 +399,6 @@ impl Spec {
     pub fn source_index(&self, name: &str) -> Option<usize> {
         self.sources.iter().position(|s| s.name == name)
     }
-
-    /// Attributes any stage needs (compared or blocked on).
-    pub fn used_attrs(&self) -> Vec<Attr> {
-        let mut v: Vec<Attr> = self.compares.iter().map(|c| c.attr).collect();
-        v.extend(
-            self.blocks
-                .iter()
-                .flat_map(|b| b.keys.iter().map(|k| k.attr)),
-        );
-        v.sort();
-        v.dedup();
-        v
-    }
 }
 
 impl Error {
