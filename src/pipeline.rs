@@ -566,10 +566,7 @@ fn count_patterns(
 pub const COUNT_SAMPLE_PAIRS: u64 = 4_000_000;
 
 fn task_hash(task: &Task) -> u64 {
-    let mut z = (task.key as u64) << 48 ^ (task.block as u64) << 16 ^ task.start as u64;
-    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-    z ^ (z >> 31)
+    crate::util::mix64((task.key as u64) << 48 ^ (task.block as u64) << 16 ^ task.start as u64)
 }
 
 /// A pair kept after scoring (match or review).

@@ -35,7 +35,7 @@
 //! partitions imply exactly the same pairs, as in scikit-learn.
 
 use std::collections::{HashMap, HashSet};
-use std::hash::{BuildHasherDefault, Hasher};
+use std::hash::BuildHasherDefault;
 use std::path::Path;
 
 use crate::util::stable_hash;
@@ -59,27 +59,7 @@ impl std::fmt::Display for RecordRef {
     }
 }
 
-/// Hasher for keys that are already well mixed or small integers: SplitMix64
-/// finaliser, no per-process seed (inputs are the user's own files).
-#[derive(Default)]
-struct MixHasher(u64);
-
-impl Hasher for MixHasher {
-    fn finish(&self) -> u64 {
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn write(&mut self, bytes: &[u8]) {
-        self.0 = stable_hash(bytes) ^ self.0.rotate_left(17);
-    }
-    fn write_u64(&mut self, v: u64) {
-        self.0 = self.0.rotate_left(17) ^ v;
-    }
-}
-
-type Mix = BuildHasherDefault<MixHasher>;
+type Mix = BuildHasherDefault<crate::util::MixHasher>;
 
 const NONE: u32 = u32::MAX;
 

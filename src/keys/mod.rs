@@ -81,14 +81,8 @@ pub fn key_for(source: &str, id: &str, salt: u32) -> String {
         bytes.push(0);
         bytes.extend_from_slice(&salt.to_le_bytes());
     }
-    format!("C{:012X}", mix(stable_hash(&bytes)) >> 16)
-}
-
-/// SplitMix64 finaliser: spreads FNV's weak high bits so similar ids get unrelated keys.
-fn mix(mut z: u64) -> u64 {
-    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-    z ^ (z >> 31)
+    // mix64 spreads FNV's weak high bits so similar ids get unrelated keys.
+    format!("C{:012X}", crate::util::mix64(stable_hash(&bytes)) >> 16)
 }
 
 #[cfg(test)]

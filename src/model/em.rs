@@ -44,7 +44,7 @@
 //!   likely; [`fit`] applies it (unless u is fixed) and reports whether it swapped.
 
 use std::collections::HashMap;
-use std::hash::{BuildHasherDefault, Hasher};
+use std::hash::BuildHasherDefault;
 
 use crate::{Error, Result};
 
@@ -58,29 +58,9 @@ pub const MAX_LEVELS: usize = MISSING_LEVEL as usize;
 // Pattern counts
 // ---------------------------------------------------------------------------
 
-/// Hasher for pattern keys: SplitMix64 finaliser over the packed bits, so that
-/// patterns differing only in the last attribute still spread over the table.
-#[derive(Default)]
-struct PatternHasher(u64);
-
-impl Hasher for PatternHasher {
-    fn finish(&self) -> u64 {
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn write(&mut self, bytes: &[u8]) {
-        for &b in bytes {
-            self.0 = (self.0.rotate_left(8) ^ b as u64).wrapping_mul(0x0100_0000_01b3);
-        }
-    }
-    fn write_u64(&mut self, v: u64) {
-        self.0 = self.0.rotate_left(29) ^ v;
-    }
-}
-
-type PatternMap<K> = HashMap<K, u64, BuildHasherDefault<PatternHasher>>;
+/// Pattern maps: packed keys are well spread by the SplitMix64 finaliser, so patterns
+/// differing only in the last attribute still spread over the table.
+type PatternMap<K> = HashMap<K, u64, BuildHasherDefault<crate::util::MixHasher>>;
 
 /// Counts of distinct comparison vectors (the sufficient statistic of the model).
 ///

@@ -5,4 +5,4 @@ pub mod progress;
 pub mod rng;
 
 pub use progress::Progress;
-pub use rng::{stable_hash, Rng};
+pub use rng::{mix64, stable_hash, MixHasher, Rng};

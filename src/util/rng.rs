@@ -22,10 +22,7 @@ impl Rng {
     /// Next 64 random bits.
     pub fn next_u64(&mut self) -> u64 {
         self.state = self.state.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.state;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
+        mix64(self.state)
     }
 
     /// Uniform in `[0, 1)`.
@@ -94,5 +91,30 @@ mod tests {
         // "" -> cbf29ce484222325, "a" -> af63dc4c8601ec8c.
         assert_eq!(stable_hash(b""), 0xcbf2_9ce4_8422_2325);
         assert_eq!(stable_hash(b"a"), 0xaf63_dc4c_8601_ec8c);
+    }
+}
+
+/// The SplitMix64 finaliser: a bijection that spreads every input bit over the output.
+#[inline]
+pub fn mix64(mut z: u64) -> u64 {
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+/// Hasher for hash maps whose keys are the user's own data or small integers:
+/// [`mix64`] as finaliser, [`stable_hash`] for bytes, no per-process seed.
+#[derive(Default)]
+pub struct MixHasher(u64);
+
+impl std::hash::Hasher for MixHasher {
+    fn finish(&self) -> u64 {
+        mix64(self.0)
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        self.0 = stable_hash(bytes) ^ self.0.rotate_left(17);
+    }
+    fn write_u64(&mut self, v: u64) {
+        self.0 = self.0.rotate_left(17) ^ v;
     }
 }
