@@ -3,18 +3,7 @@
 use crate::common::*;
 
 fn link_in(dir: &std::path::Path) -> (i32, String, String) {
-    let spec = dir.join("spec.toml");
-    let out = dir.join("out");
-    let o = run(
-        &[
-            "link",
-            "--spec",
-            spec.to_str().unwrap(),
-            "--out",
-            out.to_str().unwrap(),
-        ],
-        None,
-    );
+    let o = link(dir, "out", &[], None);
     let (so, se) = text(&o);
     (o.status.code().unwrap_or(-1), so, se)
 }
@@ -140,19 +129,11 @@ fn model_from_another_spec_is_refused_with_the_difference() {
         "levels = [\"exact\", \"date_swap\"]",
         "levels = [\"exact\"]",
     );
-    let spec = dir.path().join("spec.toml");
     let model = dir.path().join("out/model.toml");
-    let out = dir.path().join("o2");
-    let o = run(
-        &[
-            "link",
-            "--spec",
-            spec.to_str().unwrap(),
-            "--out",
-            out.to_str().unwrap(),
-            "--model",
-            model.to_str().unwrap(),
-        ],
+    let o = link(
+        dir.path(),
+        "o2",
+        &["--model", model.to_str().unwrap()],
         None,
     );
     let (_, err) = text(&o);

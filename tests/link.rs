@@ -3,25 +3,6 @@
 use crate::common::*;
 use std::collections::HashMap;
 
-fn link(
-    dir: &std::path::Path,
-    out: &str,
-    extra: &[&str],
-    threads: Option<usize>,
-) -> std::process::Output {
-    let spec = dir.join("spec.toml");
-    let out = dir.join(out);
-    let mut args = vec![
-        "link",
-        "--spec",
-        spec.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ];
-    args.extend_from_slice(extra);
-    run(&args, threads)
-}
-
 #[test]
 fn link_writes_the_output_contract() {
     let dir = mini_copy();

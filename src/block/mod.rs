@@ -480,8 +480,8 @@ mod tests {
         out
     }
 
-    #[test]
-    fn union_of_keys_without_repeats() {
+    /// Five records and two keys (name + postcode prefix, then e-mail).
+    fn two_keys() -> Blocking {
         let t = table(&[
             ("smith", "94110", "a@x.org"),
             ("smyth", "94117", "a@x.org"),
@@ -493,7 +493,12 @@ mod tests {
             spec("name", &["soundex(family_name)", "prefix(postcode, 3)"]),
             spec("email", &["email"]),
         ];
-        let b = Blocking::build(&t, &specs, 1000).unwrap();
+        Blocking::build(&t, &specs, 1000).unwrap()
+    }
+
+    #[test]
+    fn union_of_keys_without_repeats() {
+        let b = two_keys();
         let pairs = all_pairs(&b);
         // soundex(smith)=soundex(smyth)=S530 (American Soundex), 941 prefix: (0,1), (0,3), (1,3)
         // jones J520 / johns J520, 100: (2,4). Email adds nothing new: (0,1) and (2,4) seen.
@@ -506,18 +511,7 @@ mod tests {
 
     #[test]
     fn plan_estimates_new_pairs_and_completeness() {
-        let t = table(&[
-            ("smith", "94110", "a@x.org"),
-            ("smyth", "94117", "a@x.org"),
-            ("jones", "10001", "b@x.org"),
-            ("smith", "94123", "c@x.org"),
-            ("johns", "10002", "b@x.org"),
-        ]);
-        let specs = [
-            spec("name", &["soundex(family_name)", "prefix(postcode, 3)"]),
-            spec("email", &["email"]),
-        ];
-        let b = Blocking::build(&t, &specs, 1000).unwrap();
+        let b = two_keys();
         // Truth: {0,1}, {2,4}, {3}.
         let p = plan(&b, Some(&[0, 0, 1, 2, 1]), 2);
         assert_eq!((p[0].raw_pairs, p[0].new_pairs), (4, 4));

@@ -50,3 +50,23 @@ pub fn read_csv(path: &Path) -> Vec<Vec<String>> {
         .map(|rec| rec.unwrap().iter().map(String::from).collect())
         .collect()
 }
+
+/// `kinlink link` on `dir/spec.toml` into `dir/out`, with extra flags and threads.
+pub fn link(
+    dir: &std::path::Path,
+    out: &str,
+    extra: &[&str],
+    threads: Option<usize>,
+) -> std::process::Output {
+    let spec = dir.join("spec.toml");
+    let out = dir.join(out);
+    let mut args = vec![
+        "link",
+        "--spec",
+        spec.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ];
+    args.extend_from_slice(extra);
+    run(&args, threads)
+}
