@@ -14,12 +14,14 @@
 //! Parsing uses the `phonenumber` crate 0.3.10 (libphonenumber metadata 9.0.33). Its
 //! validity check runs every metadata pattern through one mutex-guarded LRU cache of 100
 //! regexes, which thrashes (≈40k numbers/s, serialized across threads). We therefore
-//! check validity ourselves with the same metadata patterns compiled once
-//! ([`is_valid_number`], same algorithm as the crate's `is_valid`), and parse common
-//! shapes without the crate: 10- and 11-digit NANP numbers written with digits and
-//! separators ([`parse_nanp_fast`]), valid `+` international numbers
-//! ([`parse_international_fast`]) and valid national numbers with trunk prefix `0` in
-//! European regions ([`parse_national_fast`]). Property tests check all four against
+//! check validity ourselves with the same metadata patterns compiled once, one regex
+//! set per region so that one pass tests all of them ([`is_valid_number`], same
+//! algorithm as the crate's `is_valid`), and parse common shapes without the crate:
+//! 10- and 11-digit NANP numbers written with digits and separators
+//! ([`parse_nanp_fast`]), valid `+` international numbers, also with parentheses and a
+//! written trunk prefix `+44 (0)20 ...` ([`parse_international_fast`]), and valid
+//! national numbers of European regions, with trunk prefix `0` or, where the region has
+//! none, without ([`parse_national_fast`]). Property tests check all of them against
 //! the crate.
 
 use std::borrow::Cow;
@@ -29,43 +31,64 @@ use std::sync::{LazyLock, Once, OnceLock};
 use phonenumber::country::Id;
 use phonenumber::metadata::{Descriptor, Metadata, DATABASE};
 use phonenumber::PhoneNumber;
-use regex::{Regex, RegexBuilder};
+use regex::{Regex, RegexBuilder, RegexSet, RegexSetBuilder, SetMatches};
 
 use super::Cleaned;
 
 /// Longest E.164 number in digits (ITU-T E.164 §6).
 pub const E164_MAX_DIGITS: usize = 15;
 
+/// A metadata pattern as a match that must start at 0: the crate accepts
+/// `find(..).start() == 0`, and `^(?:..)` is the same test.
+fn anchored_text(pattern: &str) -> String {
+    format!("^(?:{pattern})")
+}
+
+/// Compile a metadata pattern (anchored) as the crate does, with `ignore_whitespace`.
 fn anchored(pattern: &str) -> Option<Regex> {
-    // The crate compiles the metadata with `ignore_whitespace` and accepts a match that
-    // starts at 0 (`find(..).start() == 0`); `^(?:..)` is the same test.
     // A larger lazy-DFA cache: the big national-number patterns (US, GB) otherwise
     // refill the default cache over and over.
-    RegexBuilder::new(&format!("^(?:{pattern})"))
+    RegexBuilder::new(&anchored_text(pattern))
         .ignore_whitespace(true)
         .dfa_size_limit(16 << 20)
         .build()
         .ok()
 }
 
+/// One number-type pattern of a region: its possible lengths and its place in the
+/// region's [`RegexSet`] (`None` when the pattern does not compile, so it never
+/// matches, as in the crate).
 struct Desc {
-    re: Option<Regex>,
+    index: Option<usize>,
     lengths: Vec<u16>,
 }
 
 impl Desc {
-    fn new(d: &Descriptor) -> Desc {
+    /// Register `d`'s pattern in `patterns` (anchored form, duplicates shared).
+    fn new(d: &Descriptor, patterns: &mut Vec<String>) -> Desc {
+        let pattern = d.national_number().as_str();
+        let index = anchored(pattern).map(|_| {
+            let full = anchored_text(pattern);
+            match patterns.iter().position(|p| *p == full) {
+                Some(i) => i,
+                None => {
+                    patterns.push(full);
+                    patterns.len() - 1
+                }
+            }
+        });
         Desc {
-            re: anchored(d.national_number().as_str()),
+            index,
             lengths: d.possible_length().to_vec(),
         }
     }
 
-    fn is_match(&self, national: &str) -> bool {
+    /// Whether the pattern matched `national`, given the set's matches on it.
+    fn is_match(&self, national: &str, matched: &SetMatches) -> bool {
         if !self.lengths.is_empty() && !self.lengths.contains(&(national.len() as u16)) {
             return false;
         }
-        self.re.as_ref().is_some_and(|r| r.is_match(national))
+        self.index.is_some_and(|i| matched.matched(i))
     }
 }
 
@@ -181,6 +204,9 @@ struct Region {
     /// crate's `number_type`) tests them: premium rate, toll free, shared cost, voip,
     /// personal number, pager, UAN, voicemail, fixed line, mobile.
     kinds: Vec<(PhoneType, Desc)>,
+    /// All of the region's number patterns in one set: one pass over a number tells
+    /// which of them match (instead of one regex search per pattern).
+    set: RegexSet,
     /// The mobile pattern, tested again after a fixed-line match.
     mobile: Option<Desc>,
     /// Fixed-line and mobile patterns are the same text: a fixed-line match is
@@ -197,6 +223,7 @@ struct Region {
 impl Region {
     fn new(meta: &Metadata) -> Region {
         let d = meta.descriptors();
+        let mut patterns = Vec::new();
         let kinds = [
             (PhoneType::PremiumRate, d.premium_rate()),
             (PhoneType::TollFree, d.toll_free()),
@@ -210,16 +237,26 @@ impl Region {
             (PhoneType::Mobile, d.mobile()),
         ]
         .into_iter()
-        .filter_map(|(t, desc)| Some((t, Desc::new(desc?))))
+        .filter_map(|(t, desc)| Some((t, Desc::new(desc?, &mut patterns))))
         .collect();
+        let general = Desc::new(d.general(), &mut patterns);
+        let mobile = d.mobile().map(|m| Desc::new(m, &mut patterns));
+        // Each pattern compiled on its own above; the set of them compiles too, with
+        // the same options (a failure would make every number invalid: tested).
+        let set = RegexSetBuilder::new(&patterns)
+            .ignore_whitespace(true)
+            .dfa_size_limit(16 << 20)
+            .build()
+            .unwrap_or_else(|_| RegexSet::empty());
         let same_fixed_and_mobile = match (d.fixed_line(), d.mobile()) {
             (Some(f), Some(m)) => f.national_number().as_str() == m.national_number().as_str(),
             _ => false,
         };
         Region {
-            general: Desc::new(d.general()),
+            general,
             kinds,
-            mobile: d.mobile().map(Desc::new),
+            set,
+            mobile,
             same_fixed_and_mobile,
             leading_digits: meta.leading_digits().and_then(|r| anchored(r.as_str())),
             trunk_pattern: meta
@@ -250,13 +287,20 @@ impl Region {
     /// and then the first matching type pattern; a fixed-line match that also matches
     /// the mobile pattern is `fixed_line_or_mobile` (libphonenumber `getNumberType`).
     fn number_type(&self, national: &str) -> Option<PhoneType> {
-        if !self.general.is_match(national) {
+        let matched = self.set.matches(national);
+        if !self.general.is_match(national, &matched) {
             return None;
         }
-        let (kind, _) = self.kinds.iter().find(|(_, d)| d.is_match(national))?;
+        let (kind, _) = self
+            .kinds
+            .iter()
+            .find(|(_, d)| d.is_match(national, &matched))?;
         if *kind == PhoneType::FixedLine
             && (self.same_fixed_and_mobile
-                || self.mobile.as_ref().is_some_and(|m| m.is_match(national)))
+                || self
+                    .mobile
+                    .as_ref()
+                    .is_some_and(|m| m.is_match(national, &matched)))
         {
             return Some(PhoneType::FixedLineOrMobile);
         }
@@ -287,6 +331,42 @@ fn compiled(meta: &Metadata) -> Option<&'static Region> {
     Some(cell.get_or_init(|| Region::new(meta)))
 }
 
+/// The metadata of one country calling code, looked up once (the database's own
+/// lookups build a new `Vec` on every call).
+struct CallingCode {
+    /// All entries of the code, the main region first (`Database::by_code`).
+    entries: Vec<&'static Metadata>,
+    /// The entries in `Database::region` order, the order the crate tries them in
+    /// when it picks a number's region; for non-geographic codes (`001`) the code's
+    /// first entry.
+    by_region: Vec<&'static Metadata>,
+}
+
+static CALLING_CODES: LazyLock<Vec<Option<CallingCode>>> = LazyLock::new(|| {
+    // Country calling codes have 1-3 digits (ITU-T E.164).
+    (0..1000u16)
+        .map(|code| {
+            let entries = DATABASE.by_code(&code)?;
+            let by_region = DATABASE
+                .region(&code)?
+                .into_iter()
+                .filter_map(|id| {
+                    if id == "001" {
+                        entries.first().copied()
+                    } else {
+                        DATABASE.by_id(id)
+                    }
+                })
+                .collect();
+            Some(CallingCode { entries, by_region })
+        })
+        .collect()
+});
+
+fn calling_code(code: u16) -> Option<&'static CallingCode> {
+    CALLING_CODES.get(usize::from(code))?.as_ref()
+}
+
 /// Whether `national` (digits, with leading zeros) is a valid number for country
 /// calling code `code`: the crate's `is_valid` algorithm (region by leading digits,
 /// then the general pattern and one number-type pattern must match).
@@ -299,28 +379,31 @@ pub fn is_valid_number(code: u16, national: &str) -> bool {
 /// (by leading digits where the metadata has them); the type then follows
 /// libphonenumber's `getNumberType` with the same compiled patterns.
 pub fn number_type(code: u16, national: &str) -> Option<PhoneType> {
-    let regions = DATABASE.region(&code)?;
-    if regions.len() == 1 {
-        let meta = if regions[0] == "001" {
-            DATABASE.by_code(&code).and_then(|m| m.into_iter().next())
-        } else {
-            DATABASE.by_id(regions[0])
-        };
-        return meta.and_then(compiled)?.number_type(national);
+    region_of(code, national)?.1
+}
+
+/// The region (metadata entry) that `national` belongs to under calling code `code`,
+/// chosen as the crate's `validator::source_for` does: the only region of the code, or
+/// the first whose leading-digits pattern matches, or (regions without one) the first
+/// where the number is valid. With it the number's type there (`None`: not valid).
+fn region_of(code: u16, national: &str) -> Option<(&'static Metadata, Option<PhoneType>)> {
+    let regions = &calling_code(code)?.by_region;
+    if let [meta] = regions[..] {
+        return Some((meta, compiled(meta)?.number_type(national)));
     }
-    for id in regions {
-        let Some(r) = DATABASE.by_id(id).and_then(compiled) else {
+    for &meta in regions {
+        let Some(r) = compiled(meta) else {
             continue;
         };
         match &r.leading_digits {
             Some(lead) => {
                 if lead.is_match(national) {
-                    return r.number_type(national);
+                    return Some((meta, r.number_type(national)));
                 }
             }
             None => {
                 if let Some(t) = r.number_type(national) {
-                    return Some(t);
+                    return Some((meta, Some(t)));
                 }
             }
         }
@@ -338,7 +421,7 @@ pub fn phone_type_of_e164(e164: &str) -> Option<PhoneType> {
     // Country calling codes are prefix-free (ITU-T E.164): the first known prefix.
     (1..=3.min(digits.len())).find_map(|len| {
         let code = digits[..len].parse::<u16>().ok()?;
-        DATABASE.by_code(&code)?;
+        calling_code(code)?;
         Some(number_type(code, &digits[len..]))
     })?
 }
@@ -400,11 +483,13 @@ fn decide(code: u16, national: &str) -> Fast {
 }
 
 /// Fast path for international numbers written as `+` and digits with the separators
-/// ` -./` only (no `(0)`, and only spaces among the first three digits), e.g. stored
-/// E.164 values: the country code is the shortest
-/// known 1-3 digit prefix, as in the crate, and the rest is the national number.
-/// Unhandled when the crate would try to strip a trunk prefix from it (it starts with
-/// one, or the trunk-prefix pattern of a region of the code matches it).
+/// ` -./()` only (only spaces among the first three digits, no parenthesis before the
+/// first), e.g. stored E.164 values, `+1 (202) 555-0143` or `+44 (0)20 7946 0023`: the
+/// country code is the shortest known 1-3 digit prefix, as in the crate, and the rest
+/// is the national number. A written trunk prefix `0` (`(0)`) is dropped where the
+/// crate drops it (see [`drop_written_trunk`]). Unhandled when the crate could strip
+/// anything else (the trunk-prefix pattern of a region of the code matches the
+/// national number).
 pub fn parse_international_fast(raw: &str) -> Fast {
     let Some(rest) = raw.strip_prefix('+') else {
         return Fast::Unhandled;
@@ -416,19 +501,27 @@ pub fn parse_international_fast(raw: &str) -> Fast {
             b' ' => {}
             // The crate reads `+4-3...` as country code 4; let it decide such cases.
             b'-' | b'.' | b'/' if digits.len() >= 3 => {}
+            b'(' | b')' if !digits.is_empty() => {}
             _ => return Fast::Unhandled,
         }
     }
-    if !(8..=E164_MAX_DIGITS).contains(&digits.len()) || digits.starts_with('0') {
+    // One more digit allowed for a written trunk prefix.
+    if !(8..=E164_MAX_DIGITS + 1).contains(&digits.len()) || digits.starts_with('0') {
         return Fast::Unhandled;
     }
     for len in 1..=3 {
         let Ok(code) = digits[..len].parse::<u16>() else {
             return Fast::Unhandled;
         };
-        if let Some(metas) = DATABASE.by_code(&code) {
+        if let Some(cc) = calling_code(code) {
             let national = &digits[len..];
-            let may_strip = metas.iter().any(|m| {
+            if national.starts_with('0') {
+                return drop_written_trunk(code, national);
+            }
+            if digits.len() > E164_MAX_DIGITS {
+                return Fast::Unhandled;
+            }
+            let may_strip = cc.entries.iter().any(|m| {
                 m.national_prefix().is_some_and(|p| national.starts_with(p))
                     || (m.national_prefix_for_parsing().is_some()
                         && compiled(m).is_none_or(|r| r.trunk_matches(national)))
@@ -442,11 +535,51 @@ pub fn parse_international_fast(raw: &str) -> Fast {
     Fast::Unhandled
 }
 
-/// Fast path for national numbers in the regions of [`IDD_00`] whose trunk prefix is
-/// `0`: digits and the separators ` ()-./` only, one leading `0` (two would be the
-/// international prefix). The `0` is dropped, as the crate does. Unhandled when the
-/// region's trunk-prefix pattern would strip anything else (GB's `0|180020` strips
-/// just the `0` from such input).
+/// `+CC (0)...`: a national number written after the country code with its trunk
+/// prefix `0`. The crate picks the region from the number without leading zeros, then
+/// strips one `0` with the region's trunk-prefix pattern (or its trunk prefix). Valid
+/// when the region's trunk prefix is exactly `0`, its pattern strips just that `0`
+/// (no transform rule) and the rest is valid there; anything else is left to the crate.
+fn drop_written_trunk(code: u16, national: &str) -> Fast {
+    let Some(rest) = national.strip_prefix('0') else {
+        return Fast::Unhandled;
+    };
+    if rest.starts_with('0') || rest.len() + code_digits(code) > E164_MAX_DIGITS {
+        return Fast::Unhandled;
+    }
+    let Some((meta, Some(_))) = region_of(code, rest) else {
+        return Fast::Unhandled;
+    };
+    if meta.national_prefix() != Some("0") || meta.national_prefix_transform_rule().is_some() {
+        return Fast::Unhandled;
+    }
+    if meta.national_prefix_for_parsing().is_some()
+        && compiled(meta).is_none_or(|r| r.trunk_other_than_zero(national))
+    {
+        return Fast::Unhandled;
+    }
+    Fast::Valid(code, rest.to_string())
+}
+
+/// Number of decimal digits of a country calling code.
+fn code_digits(code: u16) -> usize {
+    match code {
+        0..=9 => 1,
+        10..=99 => 2,
+        _ => 3,
+    }
+}
+
+/// Fast path for national numbers in the regions of [`IDD_00`]: digits and the
+/// separators ` ()-./` only.
+///
+/// Where the trunk prefix is `0`: one leading `0` (two would be the international
+/// prefix), which is dropped, as the crate does; unhandled when the region's
+/// trunk-prefix pattern would strip anything else (GB's `0|180020` strips just the `0`
+/// from such input). Where the region has no trunk prefix at all (ES, DK, NO, PT, IT,
+/// ...): the digits are the national number, unless they start with `00` (the
+/// international prefix) or with the region's country code (which the crate may take
+/// for a country code written without `+`).
 pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
     if !IDD_00.contains(&region) {
         return Fast::Unhandled;
@@ -454,9 +587,6 @@ pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
     let Some(meta) = DATABASE.by_id(region) else {
         return Fast::Unhandled;
     };
-    if meta.national_prefix() != Some("0") {
-        return Fast::Unhandled;
-    }
     let mut digits = String::with_capacity(16);
     for b in raw.bytes() {
         match b {
@@ -464,6 +594,20 @@ pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
             b' ' | b'(' | b')' | b'-' | b'.' | b'/' => {}
             _ => return Fast::Unhandled,
         }
+    }
+    match (meta.national_prefix(), meta.national_prefix_for_parsing()) {
+        (Some("0"), _) => {}
+        (None, None) => {
+            let code = meta.country_code();
+            if digits.starts_with("00")
+                || digits.starts_with(&code.to_string())
+                || digits.len() > E164_MAX_DIGITS
+            {
+                return Fast::Unhandled;
+            }
+            return decide(code, &digits);
+        }
+        _ => return Fast::Unhandled,
     }
     if meta.national_prefix_for_parsing().is_some()
         && compiled(meta).is_none_or(|r| r.trunk_other_than_zero(&digits))
@@ -1059,17 +1203,17 @@ mod tests {
                 .flatten()
                 .filter_map(|x| x.example());
             for example in examples {
-                for i in 0..40 {
-                    let keep = example.len().saturating_sub(3);
-                    let tail: String = (keep..example.len())
-                        .map(|_| char::from(b'0' + rng.below(10) as u8))
-                        .collect();
-                    let national = format!("{}{tail}", &example[..keep]);
-                    let raw = match i % 4 {
+                for i in 0..60 {
+                    let national = near(example, &mut rng);
+                    // Written with the trunk prefix, and without it (regions that
+                    // have none, e.g. ES, write their numbers so).
+                    let raw = match i % 6 {
                         0 => format!("0{national}"),
                         1 => format!("0{} {}", &national[..2], &national[2..]),
                         2 => format!("(0{}) {}", &national[..3], &national[3..]),
-                        _ => format!("0{}/{}", &national[..2], &national[2..]),
+                        3 => format!("0{}/{}", &national[..2], &national[2..]),
+                        4 => national.clone(),
+                        _ => format!("{} {}-{}", &national[..2], &national[2..4], &national[4..]),
                     };
                     if matches!(parse_national_fast(&raw, region), Fast::Valid(..)) {
                         hits += 1;
@@ -1083,7 +1227,60 @@ mod tests {
                 }
             }
         }
-        assert!(hits > 1000, "{hits}");
+        assert!(hits > 1500, "{hits}");
+    }
+
+    /// `example` with its last three digits random: a near-valid number.
+    fn near(example: &str, rng: &mut Rng) -> String {
+        let keep = example.len().saturating_sub(3);
+        let tail: String = (keep..example.len())
+            .map(|_| char::from(b'0' + rng.below(10) as u8))
+            .collect();
+        format!("{}{tail}", &example[..keep])
+    }
+
+    #[test]
+    fn written_trunk_and_parentheses_agree_with_crate() {
+        // `+CC (0)...`, `+CC (xx) ...` and friends for the example numbers of every
+        // metadata entry (phonenumber 0.3.10+9.0.33) with random last digits: the
+        // international fast path against the crate (no default region, and DE).
+        let mut rng = Rng::new(29);
+        let mut hits = 0;
+        let mut trunk_hits = 0;
+        for code in 1..1000u16 {
+            for meta in DATABASE.by_code(&code).unwrap_or_default() {
+                let d = meta.descriptors();
+                let examples = [d.fixed_line(), d.mobile(), d.toll_free()]
+                    .into_iter()
+                    .flatten()
+                    .filter_map(|x| x.example());
+                for example in examples {
+                    if example.len() < 5 {
+                        continue;
+                    }
+                    for i in 0..8 {
+                        let n = near(example, &mut rng);
+                        let raw = match i % 4 {
+                            0 => format!("+{code} (0){n}"),
+                            1 => format!("+{code}(0){} {}", &n[..2], &n[2..]),
+                            2 => format!("+{code} ({}) {}-{}", &n[..2], &n[2..4], &n[4..]),
+                            _ => format!("+{code} (0) {}.{}", &n[..3], &n[3..]),
+                        };
+                        if let Fast::Valid(..) = parse_international_fast(&raw) {
+                            hits += 1;
+                            trunk_hits += usize::from(raw.contains("(0)"));
+                        }
+                        assert_eq!(e164(&raw, None), crate_e164(&raw, None), "{raw}");
+                        assert_eq!(
+                            e164(&raw, Some("DE")),
+                            crate_e164(&raw, Some(Id::DE)),
+                            "{raw} DE"
+                        );
+                    }
+                }
+            }
+        }
+        assert!(hits > 1000 && trunk_hits > 500, "{hits} {trunk_hits}");
     }
 
     #[test]
@@ -1152,14 +1349,20 @@ mod tests {
                 let area = 201 + rng.below(780);
                 let ex = 200 + rng.below(800);
                 let line = rng.below(10_000);
-                match i % 4 {
+                match i % 7 {
                     0 => (format!("({area}) {ex}-{line:04}"), "US"),
                     1 => (format!("+1 {area}-{ex}-{line:04}"), "US"),
                     2 => (
                         format!("0{} {:07}", 30 + rng.below(60), rng.below(10_000_000)),
                         "DE",
                     ),
-                    _ => (format!("07{:09}", rng.below(1_000_000_000)), "GB"),
+                    3 => (format!("07{:09}", rng.below(1_000_000_000)), "GB"),
+                    4 => (format!("+44 (0)20 7946 {line:04}"), "GB"),
+                    5 => (format!("+49 (0)30 {:08}", rng.below(100_000_000)), "DE"),
+                    _ => (
+                        format!("9{:02} {:06}", rng.below(100), rng.below(1_000_000)),
+                        "ES",
+                    ),
                 }
             })
             .collect();
