@@ -23,6 +23,7 @@ use crate::record::RecordTable;
 use crate::sources::{self, SourceReport};
 use crate::spec::Spec;
 use crate::standardize::StdStats;
+use crate::util::cpu::process_cpu_time;
 use crate::util::Progress;
 
 /// Which scored pairs go to `pairs.csv`.
@@ -73,6 +74,10 @@ pub struct KeySummary {
 pub struct Timings {
     /// (stage, wall time), in order.
     pub stages: Vec<(&'static str, Duration)>,
+    /// CPU time of the whole run, all threads (`None` where the clock is missing).
+    pub process_cpu: Option<Duration>,
+    /// CPU time spent standardizing values, all threads.
+    pub standardize_cpu: Duration,
 }
 
 impl Timings {
@@ -141,6 +146,7 @@ const MAX_CHUNK_TASKS: usize = 4096;
 pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     let mut t = Timings::default();
     let mut clock = Instant::now();
+    let cpu_start = process_cpu_time();
     // Load the model first: a bad model file should fail before the heavy work.
     let loaded_model = match &opts.model {
         Some(p) => Some(Model::load(p, spec)?),
@@ -149,6 +155,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     let bar = Progress::counter(opts.progress, "read + standardize", "rows");
     let loaded = sources::load_with(spec, &bar)?;
     bar.finish();
+    t.standardize_cpu = loaded.standardize_cpu;
     let table = loaded.table;
     if table.len() < 2 {
         return Err(Error::Usage(format!(
@@ -271,7 +278,12 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         refused_merges: clusters.as_ref().map_or(0, |c| c.refused.len()),
         shard: opts.shard,
         outputs,
-        timings: t,
+        timings: Timings {
+            process_cpu: process_cpu_time()
+                .zip(cpu_start)
+                .map(|(b, a)| b.saturating_sub(a)),
+            ..t
+        },
     })
 }
 

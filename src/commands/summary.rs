@@ -160,4 +160,15 @@ pub fn print_timings(t: &kinlink::pipeline::Timings) {
     }
     let total: f64 = t.stages.iter().map(|(_, d)| d.as_secs_f64()).sum();
     println!("  {:<24} {:>9.3} s", "total", total);
+    if let Some(cpu) = t.process_cpu.filter(|c| !c.is_zero()) {
+        let std = t.standardize_cpu.as_secs_f64();
+        println!("CPU time (all threads)");
+        println!("  {:<24} {:>9.3} s", "run", cpu.as_secs_f64());
+        println!(
+            "  {:<24} {:>9.3} s  ({:.0}% of the run)",
+            "standardizing values",
+            std,
+            100.0 * std / cpu.as_secs_f64()
+        );
+    }
 }

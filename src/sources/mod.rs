@@ -9,6 +9,7 @@
 //! error naming the file and what would fix it.
 
 use std::path::Path;
+use std::time::Duration;
 
 use rayon::prelude::*;
 use std::collections::hash_map::Entry;
@@ -23,6 +24,7 @@ use crate::record::{
 };
 use crate::spec::{SourceSpec, Spec};
 use crate::standardize::{standardize, Conventions, StdStats};
+use crate::util::cpu::thread_cpu;
 use crate::util::Progress;
 
 /// Rows read per chunk; one chunk is standardized while the next is read and the
@@ -67,6 +69,9 @@ pub struct Loaded {
     pub reports: Vec<SourceReport>,
     /// Standardization counts over all sources.
     pub stats: StdStats,
+    /// CPU time spent standardizing values, summed over threads (reading and interning
+    /// not included).
+    pub standardize_cpu: Duration,
 }
 
 /// Read and standardize every source of `spec`.
@@ -90,7 +95,7 @@ fn load_chunked(
     let mut builder = RecordTableBuilder::new(names);
     let mut rejects = Vec::new();
     let mut reports = Vec::new();
-    let mut stats = StdStats::default();
+    let mut totals = Totals::default();
     let mut chunking = Chunking {
         chunk_rows: chunk_rows.max(1),
         task_rows: task_rows.max(1),
@@ -102,7 +107,7 @@ fn load_chunked(
             i as u16,
             &mut builder,
             &mut rejects,
-            &mut stats,
+            &mut totals,
             progress,
             &mut chunking,
         )?;
@@ -112,8 +117,16 @@ fn load_chunked(
         table: builder.finish(),
         rejects,
         reports,
-        stats,
+        stats: totals.stats,
+        standardize_cpu: totals.cpu,
     })
+}
+
+/// Standardization counts and CPU time, summed over chunks.
+#[derive(Default)]
+struct Totals {
+    stats: StdStats,
+    cpu: Duration,
 }
 
 /// Rows per chunk and per standardization task, and the chunk buffers.
@@ -277,7 +290,7 @@ fn load_source(
     index: u16,
     builder: &mut RecordTableBuilder,
     rejects: &mut Vec<Reject>,
-    stats: &mut StdStats,
+    totals: &mut Totals,
     progress: &Progress,
     chunking: &mut Chunking,
 ) -> Result<SourceReport> {
@@ -342,8 +355,9 @@ fn load_source(
                 }
             },
         );
-        let (batches, chunk_stats) = standardized;
-        stats.merge(&chunk_stats);
+        let (batches, chunk_stats, chunk_cpu) = standardized;
+        totals.stats.merge(&chunk_stats);
+        totals.cpu += chunk_cpu;
         progress.inc(rows as u64);
         pending = (rows > 0).then_some(batches);
         spare = std::mem::replace(&mut current, next);
@@ -437,36 +451,40 @@ fn standardize_chunk(
     source: u16,
     conv: &Conventions,
     task_rows: usize,
-) -> (Vec<RecordBatch>, StdStats) {
+) -> (Vec<RecordBatch>, StdStats, Duration) {
     let rows = chunk.rows();
     let per_row = 1 + attrs.len();
     let tasks = rows.div_ceil(task_rows);
-    let results: Vec<(RecordBatch, StdStats)> = (0..tasks)
+    let results: Vec<((RecordBatch, StdStats), Duration)> = (0..tasks)
         .into_par_iter()
         .map(|t| {
-            let range = t * task_rows..((t + 1) * task_rows).min(rows);
-            let mut batch = RecordBatch::with_capacity(source, range.len());
-            let mut stats = StdStats::default();
-            let mut raw = RawRecord::default();
-            for row in range {
-                let spans = &chunk.spans[row * per_row..(row + 1) * per_row];
-                let text = |k: usize| &chunk.text[spans[k].0..spans[k].1];
-                raw.fill(attrs.iter().enumerate().map(|(j, &a)| (a, text(j + 1))));
-                let record = standardize(&raw.record, conv, &mut stats);
-                batch.push(text(0).to_string(), record);
-            }
-            (batch, stats)
+            thread_cpu(|| {
+                let range = t * task_rows..((t + 1) * task_rows).min(rows);
+                let mut batch = RecordBatch::with_capacity(source, range.len());
+                let mut stats = StdStats::default();
+                let mut raw = RawRecord::default();
+                for row in range {
+                    let spans = &chunk.spans[row * per_row..(row + 1) * per_row];
+                    let text = |k: usize| &chunk.text[spans[k].0..spans[k].1];
+                    raw.fill(attrs.iter().enumerate().map(|(j, &a)| (a, text(j + 1))));
+                    let record = standardize(&raw.record, conv, &mut stats);
+                    batch.push(text(0).to_string(), record);
+                }
+                (batch, stats)
+            })
         })
         .collect();
     let mut stats = StdStats::default();
+    let mut cpu = Duration::ZERO;
     let batches = results
         .into_iter()
-        .map(|(b, s)| {
+        .map(|((b, s), c)| {
             stats.merge(&s);
+            cpu += c;
             b
         })
         .collect();
-    (batches, stats)
+    (batches, stats, cpu)
 }
 
 /// A reusable raw record: refilling it keeps the strings' buffers.

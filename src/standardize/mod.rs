@@ -347,13 +347,11 @@ pub fn standardize(raw: &StdRecord, conv: &Conventions, stats: &mut StdStats) ->
     out
 }
 
-/// CPU time of the calling thread in seconds (Linux `schedstat`), for timing tests that
-/// must not count time lost to other processes on a shared machine.
+/// CPU time of the calling thread in seconds, for timing tests that must not count
+/// time lost to other processes on a shared machine.
 #[cfg(test)]
 pub(crate) fn thread_cpu_seconds() -> Option<f64> {
-    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
-    Some(ns / 1e9)
+    crate::util::cpu::thread_cpu_time().map(|d| d.as_secs_f64())
 }
 
 #[cfg(test)]

@@ -24,8 +24,8 @@
 //! none, without ([`parse_national_fast`]). Property tests check all of them against
 //! the crate.
 
+use rustc_hash::FxHashMap;
 use std::borrow::Cow;
-use std::collections::HashMap;
 use std::sync::{LazyLock, Once, OnceLock};
 
 use phonenumber::country::Id;
@@ -275,14 +275,6 @@ impl Region {
         }
     }
 
-    /// Whether the crate's parser could strip anything from `national` (which has no
-    /// trunk prefix written).
-    fn trunk_matches(&self, national: &str) -> bool {
-        self.trunk_pattern
-            .as_ref()
-            .is_some_and(|re| re.is_match(national))
-    }
-
     /// The number type, `None` when the number is not valid here: the general pattern
     /// and then the first matching type pattern; a fixed-line match that also matches
     /// the mobile pattern is `fixed_line_or_mobile` (libphonenumber `getNumberType`).
@@ -316,7 +308,7 @@ fn region_key(meta: &Metadata) -> usize {
     meta as *const Metadata as usize
 }
 
-static REGIONS: LazyLock<HashMap<usize, OnceLock<Region>>> = LazyLock::new(|| {
+static REGIONS: LazyLock<FxHashMap<usize, OnceLock<Region>>> = LazyLock::new(|| {
     // `Database::iter` yields one entry per id, so walk the calling codes instead to
     // see every non-geographic entry (country calling codes have 1-3 digits).
     (1..1000u16)
@@ -340,6 +332,56 @@ struct CallingCode {
     /// when it picks a number's region; for non-geographic codes (`001`) the code's
     /// first entry.
     by_region: Vec<&'static Metadata>,
+    /// The trunk prefixes (`national_prefix`) of the entries.
+    trunk_prefixes: Vec<&'static str>,
+    /// The entries' trunk-prefix patterns, compiled on first use.
+    trunk_patterns: OnceLock<TrunkPatterns>,
+}
+
+/// The trunk-prefix patterns of a calling code's entries.
+enum TrunkPatterns {
+    /// No entry has one.
+    None,
+    /// All of them in one anchored alternation.
+    Any(Regex),
+    /// One of them does not compile: anything may be stripped.
+    Broken,
+}
+
+impl CallingCode {
+    /// Whether the crate could strip a trunk prefix from `national` (written without
+    /// one) under any entry of the code.
+    fn may_strip(&self, national: &str) -> bool {
+        if self.trunk_prefixes.iter().any(|p| national.starts_with(p)) {
+            return true;
+        }
+        let patterns = self.trunk_patterns.get_or_init(|| {
+            let patterns: Vec<&str> = self
+                .entries
+                .iter()
+                .filter_map(|m| m.national_prefix_for_parsing())
+                .map(|r| r.as_str())
+                .collect();
+            if patterns.is_empty() {
+                return TrunkPatterns::None;
+            }
+            // Each one must compile on its own, as `Region` compiles them.
+            if patterns.iter().any(|p| anchored(p).is_none()) {
+                return TrunkPatterns::Broken;
+            }
+            let alternation = patterns
+                .iter()
+                .map(|p| format!("(?:{p})"))
+                .collect::<Vec<_>>()
+                .join("|");
+            anchored(&alternation).map_or(TrunkPatterns::Broken, TrunkPatterns::Any)
+        });
+        match patterns {
+            TrunkPatterns::None => false,
+            TrunkPatterns::Any(re) => re.is_match(national),
+            TrunkPatterns::Broken => true,
+        }
+    }
 }
 
 static CALLING_CODES: LazyLock<Vec<Option<CallingCode>>> = LazyLock::new(|| {
@@ -358,7 +400,13 @@ static CALLING_CODES: LazyLock<Vec<Option<CallingCode>>> = LazyLock::new(|| {
                     }
                 })
                 .collect();
-            Some(CallingCode { entries, by_region })
+            let trunk_prefixes = entries.iter().filter_map(|m| m.national_prefix()).collect();
+            Some(CallingCode {
+                entries,
+                by_region,
+                trunk_prefixes,
+                trunk_patterns: OnceLock::new(),
+            })
         })
         .collect()
 });
@@ -521,12 +569,7 @@ pub fn parse_international_fast(raw: &str) -> Fast {
             if digits.len() > E164_MAX_DIGITS {
                 return Fast::Unhandled;
             }
-            let may_strip = cc.entries.iter().any(|m| {
-                m.national_prefix().is_some_and(|p| national.starts_with(p))
-                    || (m.national_prefix_for_parsing().is_some()
-                        && compiled(m).is_none_or(|r| r.trunk_matches(national)))
-            });
-            if may_strip {
+            if cc.may_strip(national) {
                 return Fast::Unhandled;
             }
             return decide(code, national);
