@@ -190,12 +190,12 @@ fn count(attr: Attr, cleaned: Cleaned, stats: &mut StdStats) -> Option<String> {
 }
 
 /// The source's default country as an alpha-2 code.
-fn source_country(conv: &Conventions) -> Option<String> {
+fn source_country(conv: &Conventions) -> Option<&str> {
     let c = conv.country.as_deref()?.trim();
     if c.len() == 2 && c.bytes().all(|b| b.is_ascii_uppercase()) {
-        return Some(c.to_string());
+        return Some(c);
     }
-    country::country_code(c).map(str::to_string)
+    country::country_code(c)
 }
 
 /// Standardize one record's raw values (conventions in the module doc).
@@ -208,8 +208,7 @@ pub fn standardize(raw: &StdRecord, conv: &Conventions, stats: &mut StdStats) ->
         out.set(Attr::Country, c);
     }
     let record_country = out.get(Attr::Country).map(str::to_string);
-    let country = record_country.or_else(|| source_country(conv));
-    let country = country.as_deref();
+    let country = record_country.as_deref().or_else(|| source_country(conv));
 
     // Names.
     if let Some(v) = take(raw, Attr::GivenName, stats) {

@@ -86,6 +86,28 @@ pub fn clean_text(s: &str) -> String {
 
 /// [`clean_text`], keeping each character of `keep` as a word of its own (e.g. `&`).
 pub fn clean_text_keep(s: &str, keep: &[char]) -> String {
+    if is_plain_ascii(s) {
+        return s.to_ascii_lowercase();
+    }
+    clean_text_general(s, keep)
+}
+
+/// True for ASCII letters and digits in words separated by single spaces, without
+/// spaces at the ends: text that cleaning only lower-cases (the common case).
+fn is_plain_ascii(s: &str) -> bool {
+    let mut prev_space = true;
+    for b in s.bytes() {
+        match b {
+            b' ' if !prev_space => prev_space = true,
+            b'a'..=b'z' | b'A'..=b'Z' | b'0'..=b'9' => prev_space = false,
+            _ => return false,
+        }
+    }
+    !prev_space
+}
+
+/// [`clean_text_keep`] without the fast path for plain ASCII.
+fn clean_text_general(s: &str, keep: &[char]) -> String {
     let folded = casefold(s);
     let mut out = String::with_capacity(folded.len());
     // 0 = nothing pending, 1 = space pending, 2 = hyphen pending.
@@ -435,6 +457,14 @@ mod tests {
             prop_assert!(translit_equivalent(&d, &e));
             prop_assert!(translit_equivalent(&d, &u));
             prop_assert!(translit_equivalent(&e, &u));
+        }
+
+        #[test]
+        fn plain_ascii_fast_path_matches_the_general_path(
+            s in "[a-zA-Z0-9 ]{0,30}|[a-zA-Z0-9 &.,'-]{0,30}|[a-zA-Z ]{0,8}[äöüéß][a-z ]{0,8}"
+        ) {
+            prop_assert_eq!(clean_text_keep(&s, &['&']), clean_text_general(&s, &['&']));
+            prop_assert_eq!(clean_text(&s), clean_text_general(&s, &[]));
         }
 
         #[test]
