@@ -209,6 +209,47 @@ fn join(words: &[String]) -> Option<String> {
 /// Split a full name into given and family name (rules in the module doc).
 /// `None` when nothing usable is left.
 pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Option<SplitName> {
+    split_two_plain_words(raw, order).or_else(|| split_full_name_general(raw, order, country))
+}
+
+/// The common case of [`split_full_name`] without the general machinery: two words of
+/// ASCII letters, `Given Family` / `Family Given` (by `order`) or `Family, Given`, none
+/// of them a title, suffix or particle. `None` for anything else.
+fn split_two_plain_words(raw: &str, order: NameOrder) -> Option<SplitName> {
+    let (first, second, comma) = match raw.split_once(", ") {
+        Some((a, b)) => (a, b, true),
+        None => {
+            let (a, b) = raw.split_once(' ')?;
+            (a, b, false)
+        }
+    };
+    let plain = |w: &str| !w.is_empty() && w.bytes().all(|b| b.is_ascii_alphabetic());
+    if !plain(first) || !plain(second) {
+        return None;
+    }
+    let (a, b) = (first.to_ascii_lowercase(), second.to_ascii_lowercase());
+    let special = |w: &str| TITLES.contains(&w) || is_suffix_word(w) || is_particle(w);
+    if special(&a) || special(&b) {
+        return None;
+    }
+    let (given, family) = if comma || order == NameOrder::FamilyFirst {
+        (b, a)
+    } else {
+        (a, b)
+    };
+    Some(SplitName {
+        given: Some(given),
+        family: Some(family),
+        stripped: false,
+    })
+}
+
+/// [`split_full_name`] for any input.
+fn split_full_name_general(
+    raw: &str,
+    order: NameOrder,
+    country: Option<&str>,
+) -> Option<SplitName> {
     let mut stripped = false;
     let mut parts: Vec<Vec<String>> = Vec::new();
     for part in raw.split([',', ';']) {
@@ -288,6 +329,23 @@ mod tests {
             // plain word, so no fast path), which cleaning ignores.
             let general = clean_name_part(&format!("{w} "), Some(&c));
             prop_assert_eq!(clean_name_part(&w, Some(&c)), general);
+        }
+
+        #[test]
+        fn two_plain_words_fast_path_matches_the_general_path(
+            a in "[a-zA-Z]{1,10}|Mr|Dr|Frau|Sr|Jr|III|van|de|la|y|M|D",
+            b in "[a-zA-Z]{1,10}|Mr|Sra|Jr|PhD|IV|von|du|Le",
+            sep in " |, |,|  | ,",
+            c in "DE|FR|ES|US|GB",
+        ) {
+            let raw = format!("{a}{sep}{b}");
+            for order in [NameOrder::GivenFirst, NameOrder::FamilyFirst] {
+                prop_assert_eq!(
+                    split_full_name(&raw, order, Some(&c)),
+                    split_full_name_general(&raw, order, Some(&c)),
+                    "{} {:?}", raw, order
+                );
+            }
         }
     }
 

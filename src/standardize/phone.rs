@@ -514,8 +514,8 @@ pub fn parse_nanp_fast(raw: &str) -> Option<[u8; 10]> {
 /// What a fast path decided.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum Fast {
-    /// A valid number: country calling code and national number.
-    Valid(u16, String),
+    /// A valid number: country calling code, national number and its type.
+    Valid(u16, String, PhoneType),
     /// A shape the fast path handles, and not a valid number.
     Invalid,
     /// Not a shape the fast path handles: use the full parser.
@@ -523,10 +523,9 @@ pub enum Fast {
 }
 
 fn decide(code: u16, national: &str) -> Fast {
-    if is_valid_number(code, national) {
-        Fast::Valid(code, national.to_string())
-    } else {
-        Fast::Invalid
+    match number_type(code, national) {
+        Some(kind) => Fast::Valid(code, national.to_string(), kind),
+        None => Fast::Invalid,
     }
 }
 
@@ -590,7 +589,7 @@ fn drop_written_trunk(code: u16, national: &str) -> Fast {
     if rest.starts_with('0') || rest.len() + code_digits(code) > E164_MAX_DIGITS {
         return Fast::Unhandled;
     }
-    let Some((meta, Some(_))) = region_of(code, rest) else {
+    let Some((meta, Some(kind))) = region_of(code, rest) else {
         return Fast::Unhandled;
     };
     if meta.national_prefix() != Some("0") || meta.national_prefix_transform_rule().is_some() {
@@ -601,7 +600,7 @@ fn drop_written_trunk(code: u16, national: &str) -> Fast {
     {
         return Fast::Unhandled;
     }
-    Fast::Valid(code, rest.to_string())
+    Fast::Valid(code, rest.to_string(), kind)
 }
 
 /// Number of decimal digits of a country calling code.
@@ -666,7 +665,7 @@ pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
 static ENLARGE_CACHE: Once = Once::new();
 
 /// Full parse with the crate: (country code, national number with leading zeros).
-fn parse_with_crate(raw: &str, region: Option<Id>) -> Option<(u16, String)> {
+fn parse_with_crate(raw: &str, region: Option<Id>) -> Option<(u16, String, Option<PhoneType>)> {
     // The crate's own parsing also goes through its regex cache; give it room for
     // all patterns so it does not recompile them in a loop.
     ENLARGE_CACHE.call_once(|| {
@@ -675,7 +674,7 @@ fn parse_with_crate(raw: &str, region: Option<Id>) -> Option<(u16, String)> {
         }
     });
     let number: PhoneNumber = phonenumber::parse(region, raw).ok()?;
-    Some((number.code().value(), number.national().to_string()))
+    Some((number.code().value(), number.national().to_string(), None))
 }
 
 /// European regions whose international (IDD) prefix is `00` (ITU-T E.164 Annex,
@@ -739,7 +738,7 @@ pub fn normalize_phone_typed(raw: &str, region: Option<&str>) -> (Cleaned, Optio
         _ if international.is_some() => {
             let plus = international.as_deref().unwrap_or(raw);
             match parse_international_fast(plus) {
-                Fast::Valid(code, national) => Some((code, national)),
+                Fast::Valid(code, national, kind) => Some((code, national, Some(kind))),
                 Fast::Invalid => None,
                 Fast::Unhandled => parse_with_crate(plus, None),
             }
@@ -747,26 +746,27 @@ pub fn normalize_phone_typed(raw: &str, region: Option<&str>) -> (Cleaned, Optio
         Some(r) if is_nanp_fast_region(r) => match parse_nanp_fast(raw) {
             Some(national) => {
                 let national = String::from_utf8_lossy(&national).into_owned();
-                Some((1u16, national))
+                Some((1u16, national, None))
             }
             None => parse_with_crate(raw, r.parse().ok()),
         },
         Some(r) => match parse_national_fast(raw, r) {
-            Fast::Valid(code, national) => Some((code, national)),
+            Fast::Valid(code, national, kind) => Some((code, national, Some(kind))),
             Fast::Invalid => None,
             Fast::Unhandled => parse_with_crate(raw, region_id(region)),
         },
         // No region: only numbers with their own country code can parse.
         None => parse_with_crate(raw, None),
     };
-    let Some((code, national)) = parsed else {
+    let Some((code, national, kind)) = parsed else {
         return INVALID;
     };
     let e164 = format!("+{code}{national}");
     if e164.len() - 1 > E164_MAX_DIGITS {
         return INVALID;
     }
-    let Some(kind) = number_type(code, &national) else {
+    // The fast paths found the type with the validity check; the others look now.
+    let Some(kind) = kind.or_else(|| number_type(code, &national)) else {
         return INVALID;
     };
     let raw_starts_plus = raw.trim_start().starts_with('+');
