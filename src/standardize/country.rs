@@ -6,8 +6,9 @@
 //! `data/countries.tsv` (from memory of ISO 3166-1), aliases such as `UK`, `England`,
 //! `USA`, `Deutschland`; and any other alpha-2 code the phone metadata knows.
 
-use std::collections::HashMap;
 use std::sync::LazyLock;
+
+use rustc_hash::FxHashMap as HashMap;
 
 use phonenumber::metadata::DATABASE;
 
@@ -17,7 +18,7 @@ use super::Cleaned;
 const COUNTRIES_TSV: &str = include_str!("data/countries.tsv");
 
 static NAMES: LazyLock<HashMap<String, &'static str>> = LazyLock::new(|| {
-    let mut map = HashMap::new();
+    let mut map = HashMap::default();
     for line in COUNTRIES_TSV.lines() {
         if line.starts_with('#') || line.trim().is_empty() {
             continue;
@@ -38,7 +39,11 @@ static NAMES: LazyLock<HashMap<String, &'static str>> = LazyLock::new(|| {
 });
 
 fn lookup_key(s: &str) -> String {
-    fold_ascii(&clean_text(&s.replace('-', " ")))
+    if s.contains('-') {
+        fold_ascii(&clean_text(&s.replace('-', " ")))
+    } else {
+        fold_ascii(&clean_text(s))
+    }
 }
 
 /// The ISO 3166-1 alpha-2 code (upper case) of a country value, if known.

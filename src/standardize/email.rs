@@ -85,6 +85,31 @@ fn provider_rules(local: &mut String, domain: &mut String) -> bool {
     false
 }
 
+/// `local@domain` lower-cased with the provider rules applied, in one allocation, for
+/// ASCII addresses (the same result as the general path), and whether the provider
+/// rules changed anything.
+fn assemble_ascii(local: &str, domain: &str) -> (String, bool) {
+    let gmail = domain.eq_ignore_ascii_case("gmail.com");
+    let googlemail = domain.eq_ignore_ascii_case("googlemail.com");
+    let mut out = String::with_capacity(local.len() + 1 + domain.len());
+    let mut changed = false;
+    for b in local.bytes() {
+        if b == b'.' && (gmail || googlemail) {
+            changed = true;
+            continue;
+        }
+        out.push(char::from(b.to_ascii_lowercase()));
+    }
+    out.push('@');
+    if googlemail {
+        out.push_str("gmail.com");
+        changed = true;
+    } else {
+        out.extend(domain.bytes().map(|b| char::from(b.to_ascii_lowercase())));
+    }
+    (out, changed)
+}
+
 /// Validate and normalize an e-mail address (rules in the module doc).
 pub fn normalize_email(raw: &str) -> Cleaned {
     let mut s = raw.trim();
@@ -113,6 +138,14 @@ pub fn normalize_email(raw: &str) -> Cleaned {
             local_key = &local[..plus];
             repaired = true;
         }
+    }
+    if local_key.is_ascii() && domain.is_ascii() {
+        let (out, changed) = assemble_ascii(local_key, domain);
+        return if repaired || changed {
+            Cleaned::Repaired(out)
+        } else {
+            Cleaned::Parsed(out)
+        };
     }
     let lower = |x: &str| -> String {
         if x.is_ascii() {
@@ -232,6 +265,16 @@ mod tests {
     }
 
     proptest! {
+        #[test]
+        fn ascii_assembly_matches_the_general_rules(
+            local in "[a-zA-Z0-9._-]{1,12}",
+            domain in "[a-zA-Z0-9.-]{1,12}|(?i)gmail\\.com|(?i)googlemail\\.com",
+        ) {
+            let (mut l, mut d) = (local.to_lowercase(), domain.to_lowercase());
+            let changed = provider_rules(&mut l, &mut d);
+            prop_assert_eq!(assemble_ascii(&local, &domain), (format!("{l}@{d}"), changed));
+        }
+
         #[test]
         fn normalized_email_is_stable(s in "[a-zA-Z0-9._+-]{1,12}@[a-zA-Z0-9-]{1,8}\\.[a-z]{2,4}") {
             if let Some(k) = key(&s) {
