@@ -307,3 +307,26 @@ fn target_precision_moves_the_match_threshold() {
     assert_eq!(o.status.code(), Some(2));
     assert!(text(&o).1.contains("between 0 and 1"), "{}", text(&o).1);
 }
+
+#[test]
+fn timings_report_stages_and_the_cpu_share_of_standardizing() {
+    let dir = mini_copy();
+    let o = link(dir.path(), "out", &["--quiet", "--timings"], Some(2));
+    let (stdout, stderr) = text(&o);
+    assert!(o.status.success(), "{stderr}");
+    for stage in ["read + standardize", "block", "score", "total"] {
+        assert!(stdout.contains(stage), "{stage} missing:\n{stdout}");
+    }
+    // "  standardizing values   0.001 s  (12% of the run)": a share between 0 and 100.
+    let line = stdout
+        .lines()
+        .find(|l| l.trim_start().starts_with("standardizing values"))
+        .unwrap_or_else(|| panic!("no CPU line:\n{stdout}"));
+    let share: f64 = line
+        .split('(')
+        .nth(1)
+        .and_then(|s| s.split('%').next())
+        .and_then(|s| s.trim().parse().ok())
+        .unwrap_or_else(|| panic!("no share in {line:?}"));
+    assert!((0.0..=100.0).contains(&share), "{line}");
+}

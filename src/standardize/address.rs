@@ -287,14 +287,11 @@ fn take_unit(words: &mut Vec<&str>) -> Option<String> {
     Some(unit)
 }
 
-fn german_type(w: &str) -> String {
-    if w == "str" || w == "strasse" {
-        return "str".to_string();
+/// `strasse` (alone or at the end of a word) → `str`, in place.
+fn german_type(w: &mut String) {
+    if w.ends_with("strasse") {
+        w.truncate(w.len() - "asse".len());
     }
-    if let Some(stem) = w.strip_suffix("strasse") {
-        return format!("{stem}str");
-    }
-    w.to_string()
 }
 
 fn directional(w: &str) -> Option<&'static str> {
@@ -307,9 +304,7 @@ fn abbreviate(words: &mut [String], style: Style) {
         return;
     }
     for w in words.iter_mut() {
-        if style == Style::German || w.ends_with("strasse") {
-            *w = german_type(w);
-        }
+        german_type(w);
     }
     match style {
         Style::English | Style::Unknown => {
