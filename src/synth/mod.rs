@@ -769,17 +769,32 @@ fn disambiguate(
     loop {
         let n = rng.below(10u64.pow(width));
         let candidate = format!("{local}{n:0w$}@{domain}", w = width as usize);
-        if !taken.contains_key(&candidate) {
+        if !taken.contains_key(&mailbox(&candidate)) {
             return candidate;
         }
         width = (width + 1).min(9);
     }
 }
 
-/// Make every customer's e-mail addresses unique across customers, except addresses a
-/// household shares on purpose. Real providers do not hand one address to two people,
-/// but common names made from the same pattern collide in large populations. The first
-/// customer (in entity order) keeps the address; later ones get digits added.
+/// The mailbox an address delivers to, as its provider tells mailboxes apart: case does
+/// not matter, and Gmail ignores dots in the local part and treats `googlemail.com` as
+/// `gmail.com` (Gmail Help, "Dots don't matter in Gmail addresses"). Two customers
+/// never get addresses of the same mailbox.
+fn mailbox(address: &str) -> String {
+    let lower = address.to_lowercase();
+    match lower.split_once('@') {
+        Some((local, "gmail.com" | "googlemail.com")) => {
+            format!("{}@gmail.com", local.replace('.', ""))
+        }
+        _ => lower,
+    }
+}
+
+/// Make every customer's e-mail addresses unique across customers (as mailboxes, see
+/// [`mailbox`]), except addresses a household shares on purpose. Real providers do not
+/// hand one mailbox to two people, but common names made from the same pattern collide
+/// in large populations. The first customer (in entity order) keeps the address; later
+/// ones get digits added.
 fn unique_emails(seed: u64, infos: Vec<EmailInfo>) -> HashMap<u32, EmailFix> {
     let mut taken: HashMap<String, u32> = HashMap::with_capacity(infos.len() * 11 / 10);
     let mut fixes: HashMap<u32, EmailFix> = HashMap::new();
@@ -790,24 +805,24 @@ fn unique_emails(seed: u64, infos: Vec<EmailInfo>) -> HashMap<u32, EmailFix> {
                 fixes.entry(info.entity).or_default().email = Some(e);
             }
         } else {
-            let email = if taken.contains_key(&info.email) {
+            let email = if taken.contains_key(&mailbox(&info.email)) {
                 let e = disambiguate(seed, info.entity, 0, &info.email, &taken);
                 fixes.entry(info.entity).or_default().email = Some(e.clone());
                 e
             } else {
                 info.email
             };
-            taken.insert(email, info.entity);
+            taken.insert(mailbox(&email), info.entity);
         }
         if let Some(new_email) = info.new_email {
-            let new_email = if taken.contains_key(&new_email) {
+            let new_email = if taken.contains_key(&mailbox(&new_email)) {
                 let e = disambiguate(seed, info.entity, 1, &new_email, &taken);
                 fixes.entry(info.entity).or_default().new_email = Some(e.clone());
                 e
             } else {
                 new_email
             };
-            taken.insert(new_email, info.entity);
+            taken.insert(mailbox(&new_email), info.entity);
         }
     }
     fixes

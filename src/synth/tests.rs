@@ -483,14 +483,15 @@ fn writing_into_a_file_path_fails_with_the_path() {
 #[test]
 fn emails_are_unique_across_customers_except_household_sharing() {
     let (_, people) = generate_with_people(&config(6000, 41));
-    let mut owner: HashMap<&str, u32> = HashMap::new();
+    // Unique as mailboxes: Gmail addresses that differ only in dots are one mailbox.
+    let mut owner: HashMap<String, u32> = HashMap::new();
     for p in &people {
         for e in std::iter::once(&p.email).chain(p.new_email.as_ref()) {
-            if let Some(&o) = owner.get(e.as_str()) {
+            if let Some(&o) = owner.get(&mailbox(e)) {
                 assert_eq!(p.shares_email_of, Some(o), "{e} of {} and {o}", p.entity);
                 assert_eq!(e, &p.email);
             } else {
-                owner.insert(e, p.entity);
+                owner.insert(mailbox(e), p.entity);
             }
         }
     }
@@ -498,9 +499,18 @@ fn emails_are_unique_across_customers_except_household_sharing() {
 }
 
 #[test]
+fn gmail_mailboxes_ignore_dots_and_case() {
+    // Gmail Help, "Dots don't matter in Gmail addresses"; googlemail.com is gmail.com.
+    assert_eq!(mailbox("J.Smith@Gmail.com"), "jsmith@gmail.com");
+    assert_eq!(mailbox("j.smith@googlemail.com"), "jsmith@gmail.com");
+    // Other providers: only case.
+    assert_eq!(mailbox("J.Smith@Example.org"), "j.smith@example.org");
+}
+
+#[test]
 fn disambiguated_addresses_keep_their_domain() {
     let mut taken = HashMap::new();
-    taken.insert("john.smith@gmail.com".to_string(), 0);
+    taken.insert(mailbox("john.smith@gmail.com"), 0);
     let a = disambiguate(1, 7, 0, "john.smith@gmail.com", &taken);
     assert!(
         a.starts_with("john.smith") && a.ends_with("@gmail.com") && a != "john.smith@gmail.com"
