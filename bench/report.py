@@ -99,6 +99,10 @@ def kinlink_info(path):
     info["candidates"] = int(m.group(1)) if m else None
     m = re.search(r"match (\d+)\s+review (\d+)\s+non-match (\d+)", text)
     info["decisions"] = tuple(int(x) for x in m.groups()) if m else None
+    # CPU lines of --timings: the whole run and standardizing values.
+    run = re.search(r"^  run\s+([0-9.]+) s$", text, re.M)
+    std = re.search(r"^  standardizing values\s+([0-9.]+) s", text, re.M)
+    info["cpu"] = (float(run.group(1)), float(std.group(1))) if run and std else None
     return info
 
 
@@ -266,8 +270,13 @@ def main():
             extra.append(f"match {m:,}, review {rv:,}, non-match {nm:,}")
         synth = f"; synth took {fmt_time(r['synth']['wall'])}" if r["synth"] else ""
         dpairs = f"{di['pairs']:,}" if di["pairs"] is not None else "?"
+        cpu = ""
+        if ki["cpu"]:
+            run_cpu, std_cpu = ki["cpu"]
+            cpu = (f"; kinlink CPU time {run_cpu:.1f} s, of which standardizing values "
+                   f"{std_cpu:.2f} s ({100 * std_cpu / run_cpu:.0f} %)")
         md.append(f"N = {r['n']:,}: kinlink {', '.join(extra)}; DuckDB "
-                  f"{dpairs} matched pairs{synth}.\n")
+                  f"{dpairs} matched pairs{synth}{cpu}.\n")
         md.append("| kinlink stage (`--timings`) | s | DuckDB step | s |")
         md.append("|---|---:|---|---:|")
         ks, ds = ki["stages"], di["stages"]
