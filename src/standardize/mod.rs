@@ -594,21 +594,6 @@ mod tests {
             })
     }
 
-    /// Known ambiguity of the `family, given` form: a given name that is a suffix word
-    /// ("Jr van Aa" gives `van aa, jr`, which reads back like "John Smith, Jr.").
-    /// A suffix as the last word is fine.
-    fn has_suffix_word(r: &StdRecord) -> bool {
-        let full = r.get(Attr::FullName).unwrap_or("").to_lowercase();
-        let words: Vec<&str> = full
-            .split(|c: char| !c.is_alphanumeric())
-            .filter(|w| !w.is_empty())
-            .collect();
-        words.len() > 1
-            && words[..words.len() - 1]
-                .iter()
-                .any(|w| names::is_suffix_word(w))
-    }
-
     proptest! {
         #[test]
         fn never_panics_and_counts_add_up(raw in any_record(), country in "[A-Z]{2}|\\PC{0,4}") {
@@ -627,7 +612,6 @@ mod tests {
 
         #[test]
         fn standardizing_twice_changes_nothing(raw in realistic_record()) {
-            prop_assume!(!has_suffix_word(&raw));
             let c = conv("US", DateOrder::Mdy, NameOrder::GivenFirst);
             let once = standardize(&raw, &c, &mut StdStats::default());
             // The second pass reads ISO dates, which are year-first in any order.
@@ -652,7 +636,6 @@ mod tests {
             for (a, v) in Attr::ALL.iter().zip(vals) {
                 r.set(*a, v);
             }
-            prop_assume!(!has_suffix_word(&r));
             let c = Conventions {
                 country: Some(country.to_string()),
                 date_order: DateOrder::Ymd,

@@ -29,7 +29,12 @@
 //!   This splits compound given names wrongly (`María José García` → family
 //!   `josé garcía`), which is the rarer case since everyone carries two family names.
 //! - The standardized full name is written `family, given` (or the single part), so
-//!   both input forms give the same value and standardizing again changes nothing.
+//!   both input forms give the same value and standardizing again changes nothing
+//!   (property-tested). Two rules keep it so: a family name of several words alone is
+//!   written `family,` (and `Family,` with nothing after the comma reads as a family
+//!   name alone), and a given part made only of suffixes or titles before a family name
+//!   of two or more words (`Jr van Aa`) is dropped as a suffix, because `van aa, jr`
+//!   would read back like `John Smith, Jr.`.
 
 use super::text::clean_text;
 use super::NameOrder;
@@ -46,11 +51,14 @@ pub struct SplitName {
 }
 
 impl SplitName {
-    /// The standardized full-name string: `family, given`, or the one part present.
+    /// The standardized full-name string: `family, given`, or the one part present; a
+    /// family name of several words alone is written `family,` so that it does not
+    /// read back as given and family name.
     pub fn full(&self) -> Option<String> {
         match (&self.given, &self.family) {
             (Some(g), Some(f)) => Some(format!("{f}, {g}")),
             (Some(g), None) => Some(g.clone()),
+            (None, Some(f)) if f.contains(' ') => Some(format!("{f},")),
             (None, Some(f)) => Some(f.clone()),
             (None, None) => None,
         }
@@ -202,6 +210,12 @@ fn tidy(words: &[String]) -> (&[String], bool) {
     (&words[a..b], a > 0 || b < words.len())
 }
 
+/// A cleaned word that is a suffix or a title (periods are gone by now).
+fn is_suffix_or_title_text(word: &str) -> bool {
+    let key = word.replace('-', "");
+    TITLES.contains(&key.as_str()) || is_suffix_word(&key)
+}
+
 fn join(words: &[String]) -> Option<String> {
     (!words.is_empty()).then(|| words.join(" "))
 }
@@ -252,10 +266,17 @@ fn split_full_name_general(
 ) -> Option<SplitName> {
     let mut stripped = false;
     let mut parts: Vec<Vec<String>> = Vec::new();
-    for part in raw.split([',', ';']) {
+    let (mut segments, mut first_used, mut later_used) = (0, false, false);
+    for (i, part) in raw.split([',', ';']).enumerate() {
+        segments += 1;
         let words = raw_words(part);
         if words.is_empty() {
             continue;
+        }
+        if i == 0 {
+            first_used = true;
+        } else {
+            later_used = true;
         }
         // A later comma part made only of suffixes or titles: "Smith, John, Jr.",
         // "John Smith, Jr." (but in "Smith, Jr" the "Jr" may be the given name).
@@ -268,8 +289,11 @@ fn split_full_name_general(
         stripped |= s;
         parts.push(kept);
     }
+    // `Family,` with nothing after the comma: a family name alone.
+    let family_only = first_used && segments > 1 && !later_used;
     let (given, family) = match parts.len() {
         0 => return None,
+        1 if family_only => (None, join(&parts[0])),
         1 => {
             let w = &parts[0];
             if w.len() == 1 {
@@ -299,12 +323,24 @@ fn split_full_name_general(
                 let (given, sg) = tidy(given);
                 let (family, sf) = tidy(family);
                 stripped |= sg || sf;
-                (join(given), join(family))
+                // A given part made only of suffixes or titles before a family name of
+                // two or more words ("Jr van Aa") would read back from `van aa, jr` as
+                // a suffix: it is one.
+                if family.len() >= 2 && given.iter().all(|w| is_suffix_or_title_text(w)) {
+                    stripped |= !given.is_empty();
+                    (None, join(family))
+                } else {
+                    (join(given), join(family))
+                }
             }
         }
         _ => {
+            // The later parts together are the given name; read back from `family,
+            // given` they are one part, which loses titles and suffixes at its edges.
             let given: Vec<String> = parts[1..].iter().flatten().cloned().collect();
-            (join(&given), join(&parts[0]))
+            let (given, sg) = tidy(&given);
+            stripped |= sg;
+            (join(given), join(&parts[0]))
         }
     };
     Some(SplitName {
@@ -329,6 +365,32 @@ mod tests {
             // plain word, so no fast path), which cleaning ignores.
             let general = clean_name_part(&format!("{w} "), Some(&c));
             prop_assert_eq!(clean_name_part(&w, Some(&c)), general);
+        }
+
+        #[test]
+        fn splitting_the_standardized_full_name_again_changes_nothing(
+            words in proptest::collection::vec(
+                "Ann|John|María|José|Smith|García|López|Aa|van|de|la|von|der|Jr|Sr|III|PhD|Dr|Mr|Frau|M\\.|D\\.|J\\.",
+                1..5,
+            ),
+            commas in proptest::collection::vec(proptest::bool::ANY, 5),
+            c in "DE|FR|ES|US|GB",
+        ) {
+            // Names built from titles, suffixes, particles, initials and comma forms.
+            let mut raw = String::new();
+            for (i, w) in words.iter().enumerate() {
+                if i > 0 {
+                    raw.push_str(if commas[i] { ", " } else { " " });
+                }
+                raw.push_str(w);
+            }
+            for order in [NameOrder::GivenFirst, NameOrder::FamilyFirst] {
+                let Some(once) = split_full_name(&raw, order, Some(&c)) else { continue };
+                let full = once.full().unwrap();
+                let twice = split_full_name(&full, order, Some(&c)).unwrap();
+                prop_assert_eq!(twice.full(), Some(full.clone()), "{} -> {} ({:?})", raw, full, order);
+                prop_assert_eq!((&twice.given, &twice.family), (&once.given, &once.family));
+            }
         }
 
         #[test]
@@ -442,6 +504,31 @@ mod tests {
         assert_eq!(es("Juan Pérez"), gf("juan", "pérez"));
         // Elsewhere one family name.
         assert_eq!(split("María García López"), gf("maría garcía", "lópez"));
+    }
+
+    #[test]
+    fn suffix_before_a_two_word_family_name_is_a_suffix() {
+        // "Jr" cannot be read back as a given name from `van aa, jr` (that form reads
+        // like "John Smith, Jr."), so it is dropped as the suffix it is, and a family
+        // name of several words alone is written with a comma.
+        let s = split_full_name("Jr van Aa", NameOrder::GivenFirst, None).unwrap();
+        assert_eq!(
+            (s.given.as_deref(), s.family.as_deref()),
+            (None, Some("van aa"))
+        );
+        assert!(s.stripped);
+        assert_eq!(s.full().as_deref(), Some("van aa,"));
+        let es = split_full_name("Jr García López", NameOrder::GivenFirst, Some("ES")).unwrap();
+        assert_eq!(es.full().as_deref(), Some("garcía lópez,"));
+        for order in [NameOrder::GivenFirst, NameOrder::FamilyFirst] {
+            for out in ["van aa,", "garcía lópez,"] {
+                let again = split_full_name(out, order, Some("ES")).unwrap();
+                assert_eq!(again.full().as_deref(), Some(out));
+            }
+        }
+        // Unchanged: a suffix after the comma, and a suffix as the only given name.
+        assert_eq!(split("John Smith, Jr."), gf("john", "smith"));
+        assert_eq!(split("Smith, Jr"), gf("jr", "smith"));
     }
 
     #[test]
