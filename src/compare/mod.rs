@@ -275,7 +275,9 @@ fn intersects(a: &[u32], b: &[u32]) -> bool {
     false
 }
 
-/// `j` vs `john`, `j r` vs `john ronald`: every token agrees, at least one by initial.
+/// `j` vs `john`, `j r` vs `john ronald`, `j r r` vs `john ronald`: the tokens agree in
+/// order, at least one by initial; extra tokens on one side are initials (middle names
+/// one source leaves out), or the shorter side is one initial (`j` vs `john ronald`).
 fn initial_agrees(a: &str, b: &str) -> bool {
     let ta: Vec<&str> = a.split([' ', '-', '.']).filter(|t| !t.is_empty()).collect();
     let tb: Vec<&str> = b.split([' ', '-', '.']).filter(|t| !t.is_empty()).collect();
@@ -283,10 +285,15 @@ fn initial_agrees(a: &str, b: &str) -> bool {
         return false;
     }
     let n = ta.len().min(tb.len());
-    // Fewer tokens on one side only when that side is a lone initial ("j" vs "john ronald").
     if ta.len() != tb.len() {
-        let few = if ta.len() < tb.len() { &ta } else { &tb };
-        if few.len() != 1 || few[0].chars().count() != 1 {
+        let (few, many) = if ta.len() < tb.len() {
+            (&ta, &tb)
+        } else {
+            (&tb, &ta)
+        };
+        let lone_initial = few.len() == 1 && few[0].chars().count() == 1;
+        let extra_initials = many[few.len()..].iter().all(|t| t.chars().count() == 1);
+        if !lone_initial && !extra_initials {
             return false;
         }
     }
@@ -534,9 +541,15 @@ mod tests {
         assert!(initial_agrees("j", "john"));
         assert!(initial_agrees("j r", "john ronald"));
         assert!(initial_agrees("j", "john ronald"));
+        // Middle initials one source leaves out (common practice, no source).
+        assert!(initial_agrees("j r r", "john ronald"));
+        assert!(initial_agrees("john ronald", "j r r"));
+        assert!(initial_agrees("j r", "john"));
         assert!(!initial_agrees("john", "john"));
         assert!(!initial_agrees("k", "john"));
-        assert!(!initial_agrees("j r", "john"));
+        assert!(!initial_agrees("j ronald", "john"));
+        assert!(!initial_agrees("j k r", "john ronald"));
+        assert!(!initial_agrees("j r", "john k"));
     }
 
     #[test]
