@@ -248,19 +248,39 @@ pub fn attr_models(
         .collect()
 }
 
-/// Warnings for agreement levels (all but `disagree`) whose m is below their u: there,
-/// agreement would count as evidence against a match, which usually means a level that is
-/// too loose, or too little data.
+/// Warnings for agreement levels that do not do their job, which usually means a level
+/// that is too loose, or too little data:
+/// - the first (strictest) level with m below u: full agreement would count as evidence
+///   against a match;
+/// - any agreement level whose weight log2(m/u) is not above the weight of `disagree`:
+///   agreeing at it would count no more for a match than disagreeing.
+///
+/// A looser level with m below u but above `disagree` is normal (agreeing on the birth
+/// year alone is rarer among matches than among random pairs, yet it is still better
+/// than disagreeing) and is not reported.
 pub fn level_warnings(attrs: &[AttrModel]) -> Vec<String> {
     let mut out = Vec::new();
     for a in attrs {
-        let last = a.levels.len().saturating_sub(1);
+        let Some(last) = a.levels.len().checked_sub(1) else {
+            continue;
+        };
+        let weight = |l: usize| (a.m[l] / a.u[l]).log2();
+        let disagree = weight(last);
         for (l, name) in a.levels.iter().enumerate().take(last) {
-            if a.m[l] < a.u[l] {
+            if l == 0 && a.m[l] < a.u[l] {
                 out.push(format!(
                     "`{}` level `{name}`: m = {:.4} is below u = {:.4}, so agreeing at this level \
                      counts against a match; consider a stricter level or more data",
                     a.attribute, a.m[l], a.u[l]
+                ));
+            } else if weight(l) <= disagree {
+                out.push(format!(
+                    "`{}` level `{name}`: its weight {:.2} bits is not above the weight of \
+                     `disagree` ({disagree:.2} bits), so agreeing at this level counts no more \
+                     for a match than disagreeing; consider removing the level, a stricter one \
+                     or more data",
+                    a.attribute,
+                    weight(l)
                 ));
             }
         }
@@ -862,6 +882,21 @@ mod tests {
         let w = level_warnings(&m.attribute);
         assert_eq!(w.len(), 1);
         assert!(w[0].contains("`family_name` level `exact`"), "{w:?}");
+        // A looser level with m below u that still beats disagreeing: no warning (its
+        // weight -1.6 bits is above disagree's -6.6). Values invented for the test.
+        let a = &mut m.attribute[0];
+        a.levels = vec!["exact".into(), "same_year".into(), "disagree".into()];
+        a.m = vec![0.95, 0.04, 0.01];
+        a.u = vec![0.01, 0.12, 0.87];
+        assert!(level_warnings(&m.attribute).is_empty());
+        // The same level below disagree: reported.
+        m.attribute[0].m = vec![0.95, 0.001, 0.049];
+        let w = level_warnings(&m.attribute);
+        assert_eq!(w.len(), 1, "{w:?}");
+        assert!(
+            w[0].contains("level `same_year`") && w[0].contains("disagree"),
+            "{w:?}"
+        );
     }
 
     #[test]
