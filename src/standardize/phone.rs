@@ -20,9 +20,8 @@
 //! 10- and 11-digit NANP numbers written with digits and separators
 //! ([`parse_nanp_fast`]), valid `+` international numbers, also with parentheses and a
 //! written trunk prefix `+44 (0)20 ...` ([`parse_international_fast`]), and valid
-//! national numbers of European regions, with trunk prefix `0` or, where the region has
-//! none, without ([`parse_national_fast`]). Property tests check all of them against
-//! the crate.
+//! national numbers of any region whose trunk prefix is `0` or which has none
+//! ([`parse_national_fast`]). Property tests check all of them against the crate.
 
 use rustc_hash::FxHashMap;
 use std::borrow::Cow;
@@ -214,6 +213,9 @@ struct Region {
     /// `sameMobileAndFixedLinePattern`).
     same_fixed_and_mobile: bool,
     leading_digits: Option<Regex>,
+    /// The international (IDD) prefix pattern, anchored: `None` when the region has
+    /// none, `Some(None)` when it does not compile (then any number may start with it).
+    idd: Option<Option<Regex>>,
     /// The trunk-prefix pattern (`national_prefix_for_parsing`), anchored.
     trunk_pattern: Option<Regex>,
     /// Whether a transform rule rewrites what the trunk pattern matched.
@@ -259,10 +261,21 @@ impl Region {
             mobile,
             same_fixed_and_mobile,
             leading_digits: meta.leading_digits().and_then(|r| anchored(r.as_str())),
+            idd: meta.international_prefix().map(|r| anchored(r.as_str())),
             trunk_pattern: meta
                 .national_prefix_for_parsing()
                 .and_then(|r| anchored(r.as_str())),
             trunk_transform: meta.national_prefix_transform_rule().is_some(),
+        }
+    }
+
+    /// Whether `digits` may start with the region's international prefix (the crate
+    /// then reads a country code after it).
+    fn idd_may_match(&self, digits: &str) -> bool {
+        match &self.idd {
+            None => false,
+            Some(None) => true,
+            Some(Some(re)) => re.is_match(digits),
         }
     }
 
@@ -612,8 +625,8 @@ fn code_digits(code: u16) -> usize {
     }
 }
 
-/// Fast path for national numbers in the regions of [`IDD_00`]: digits and the
-/// separators ` ()-./` only.
+/// Fast path for national numbers: digits and the separators ` ()-./` only, not
+/// starting with the region's international prefix.
 ///
 /// Where the trunk prefix is `0`: one leading `0` (two would be the international
 /// prefix), which is dropped, as the crate does; unhandled when the region's
@@ -623,10 +636,10 @@ fn code_digits(code: u16) -> usize {
 /// international prefix) or with the region's country code (which the crate may take
 /// for a country code written without `+`).
 pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
-    if !IDD_00.contains(&region) {
-        return Fast::Unhandled;
-    }
     let Some(meta) = DATABASE.by_id(region) else {
+        return Fast::Unhandled;
+    };
+    let Some(compiled_region) = compiled(meta) else {
         return Fast::Unhandled;
     };
     let mut digits = String::with_capacity(16);
@@ -636,6 +649,9 @@ pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
             b' ' | b'(' | b')' | b'-' | b'.' | b'/' => {}
             _ => return Fast::Unhandled,
         }
+    }
+    if compiled_region.idd_may_match(&digits) {
+        return Fast::Unhandled;
     }
     match (meta.national_prefix(), meta.national_prefix_for_parsing()) {
         (Some("0"), _) => {}
@@ -652,7 +668,7 @@ pub fn parse_national_fast(raw: &str, region: &str) -> Fast {
         _ => return Fast::Unhandled,
     }
     if meta.national_prefix_for_parsing().is_some()
-        && compiled(meta).is_none_or(|r| r.trunk_other_than_zero(&digits))
+        && compiled_region.trunk_other_than_zero(&digits)
     {
         return Fast::Unhandled;
     }
@@ -1235,28 +1251,46 @@ mod tests {
     fn national_fast_path_agrees_with_crate() {
         // Near-valid national numbers: the metadata's example numbers (phonenumber
         // 0.3.10+9.0.33) with random last digits, written with trunk prefix and
-        // separators, in every region of the fast path.
+        // separators, and after the region's international prefix, in every region
+        // (European ones, the most common in our data, more often).
         let mut rng = Rng::new(23);
         let mut hits = 0;
-        for region in IDD_00 {
-            let meta = DATABASE.by_id(*region).unwrap();
+        let mut regions: Vec<&str> = (1..1000u16)
+            .filter_map(|code| DATABASE.region(&code))
+            .flatten()
+            .filter(|id| *id != "001" && !is_nanp_fast_region(id))
+            .collect();
+        regions.sort_unstable();
+        regions.dedup();
+        assert!(regions.len() > 200, "{}", regions.len());
+        for region in regions {
+            let meta = DATABASE.by_id(region).unwrap();
             let d = meta.descriptors();
             let examples = [d.fixed_line(), d.mobile()]
                 .into_iter()
                 .flatten()
-                .filter_map(|x| x.example());
+                .filter_map(|x| x.example())
+                .filter(|x| x.len() >= 5);
+            let rounds = if IDD_00.contains(&region) { 70 } else { 14 };
             for example in examples {
-                for i in 0..60 {
+                for i in 0..rounds {
                     let national = near(example, &mut rng);
                     // Written with the trunk prefix, and without it (regions that
                     // have none, e.g. ES, write their numbers so).
-                    let raw = match i % 6 {
+                    let raw = match i % 7 {
                         0 => format!("0{national}"),
                         1 => format!("0{} {}", &national[..2], &national[2..]),
                         2 => format!("(0{}) {}", &national[..3], &national[3..]),
                         3 => format!("0{}/{}", &national[..2], &national[2..]),
                         4 => national.clone(),
-                        _ => format!("{} {}-{}", &national[..2], &national[2..4], &national[4..]),
+                        5 => format!("{} {}-{}", &national[..2], &national[2..4], &national[4..]),
+                        _ => {
+                            // The international prefix and a country code: never
+                            // national, whatever the fast path would make of it.
+                            let idd = meta.preferred_international_prefix().unwrap_or("00");
+                            let idd: String = idd.chars().filter(char::is_ascii_digit).collect();
+                            format!("{idd} 44 {national}")
+                        }
                     };
                     if matches!(parse_national_fast(&raw, region), Fast::Valid(..)) {
                         hits += 1;
