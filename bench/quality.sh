@@ -33,8 +33,10 @@ echo "  oracle (fitted from true labels):"; scores "$W/oracle.txt"
 
 echo "== 2. guarded clustering vs plain transitive closure (hard data, $HARD customers)"
 $K --quiet synth --customers "$HARD" --seed "$SEED" --hard --out "$W/hard"
-cp "$W/hard/spec.toml" "$W/hard/plain.toml"
-{ cat "$W/hard/spec.toml"; printf '\n[cluster]\nunique = ["birth_date"]\nmax_size = 12\n'; } > "$W/hard/guarded.toml"
+# The synth spec has its own [cluster] section: drop it for the plain run.
+awk '/^\[cluster\]/ { skip = 1; next } /^\[/ { skip = 0 } !skip { print }' \
+    "$W/hard/spec.toml" > "$W/hard/plain.toml"
+{ cat "$W/hard/plain.toml"; printf '\n[cluster]\nunique = ["birth_date"]\nmax_size = 12\n'; } > "$W/hard/guarded.toml"
 $K link --spec "$W/hard/plain.toml" --out "$W/plain" --truth "$W/hard/truth.csv" > "$W/plain.txt"
 $K link --spec "$W/hard/guarded.toml" --out "$W/guarded" --truth "$W/hard/truth.csv" > "$W/guarded.txt"
 echo "  plain transitive closure:"; scores "$W/plain.txt"

@@ -170,6 +170,12 @@ keys = ["birth_date", "initial(given_name)"]
 match_probability = 0.9
 review_probability = 0.5
 
+[cluster]
+# A customer has one date of birth: clusters with different birth dates are not merged
+# (the refused merges are listed in refused.csv). Remove this where birth dates are
+# unreliable.
+unique = ["birth_date"]
+
 [model]
 seed = 42
 u_sample_pairs = 200000
