@@ -258,9 +258,10 @@ fn demo_meets_its_quality_targets() {
         let line = stdout.lines().find(|l| l.starts_with(name)).unwrap();
         line.split_whitespace().nth(3).unwrap().parse().unwrap()
     };
-    // Targets for the demo: pairwise F1 >= 0.95, B-cubed F1 >= 0.97, no truth used in fitting.
-    assert!(f1("pairwise") >= 0.95, "{stdout}");
-    assert!(f1("B-cubed") >= 0.97, "{stdout}");
+    // Targets for the demo (no truth used in fitting): pairwise F1 >= 0.975 and B-cubed
+    // F1 >= 0.985 with the birth-date guard (measured 0.981 and 0.993 on 2026-12-02).
+    assert!(f1("pairwise") >= 0.975, "{stdout}");
+    assert!(f1("B-cubed") >= 0.985, "{stdout}");
 }
 
 #[test]
