@@ -21,7 +21,7 @@ use rphonetic::{Encoder, Soundex};
 use crate::error::{Error, Result};
 use crate::record::{Attr, Column, RecordTable, MISSING};
 use crate::spec::{BlockSpec, KeyFn, KeyPart};
-use crate::standardize::fold_ascii;
+use crate::standardize::{fold_ascii, fold_for_comparison};
 
 /// Key id of a record that is not blocked on a key (some part missing).
 pub const NO_KEY: u32 = u32::MAX;
@@ -264,12 +264,12 @@ pub fn key_value(value: &str, func: KeyFn, soundex: &Soundex) -> Option<String> 
             }
             soundex.encode(&folded)
         }
-        KeyFn::Prefix(n) => fold_ascii(value)
+        KeyFn::Prefix(n) => fold_for_comparison(value)
             .chars()
             .filter(|c| !c.is_whitespace())
             .take(n)
             .collect(),
-        KeyFn::Initial => fold_ascii(value)
+        KeyFn::Initial => fold_for_comparison(value)
             .chars()
             .find(|c| c.is_alphanumeric())
             .map(String::from)?,
@@ -595,5 +595,15 @@ mod tests {
             Some("1984")
         );
         assert_eq!(key_value("--", KeyFn::Soundex, &s), None);
+        // Other scripts: prefix and initial as written; Soundex has no code for them.
+        assert_eq!(
+            key_value("петров", KeyFn::Prefix(3), &s).as_deref(),
+            Some("пет")
+        );
+        assert_eq!(
+            key_value("Петров", KeyFn::Initial, &s).as_deref(),
+            Some("п")
+        );
+        assert_eq!(key_value("петров", KeyFn::Soundex, &s), None);
     }
 }

@@ -16,7 +16,7 @@ use rphonetic::{Encoder, Soundex};
 
 use crate::record::{Attr, Column, RecordTable, ValueId, MISSING};
 use crate::spec::{CompareSpec, Level};
-use crate::standardize::{fold_ascii, nickname_equivalent, translit_variants};
+use crate::standardize::{fold_for_comparison, nickname_equivalent, translit_variants};
 
 pub mod strings;
 
@@ -50,7 +50,7 @@ impl Comparator {
     /// Prepare the comparator for `spec` over the interned `column`.
     pub fn new(spec: &CompareSpec, column: &Column) -> Comparator {
         let has = |f: fn(&Level) -> bool| spec.levels.iter().any(f);
-        let folded: Vec<String> = column.dict.iter().map(|v| fold_ascii(v)).collect();
+        let folded: Vec<String> = column.dict.iter().map(|v| fold_for_comparison(v)).collect();
         let translit = if has(|l| *l == Level::Translit) {
             let mut ids: HashMap<String, u32> = HashMap::new();
             column
@@ -486,6 +486,50 @@ mod tests {
                 "disagree"
             ]
         );
+    }
+
+    #[test]
+    fn names_in_other_scripts_are_compared_as_written() {
+        // Cyrillic, Greek and CJK letters have no ASCII folding here: different names
+        // must not look equal (they used to fold to nothing). Invented names.
+        let levels = [
+            "exact",
+            "translit",
+            "nickname",
+            "jaro_winkler >= 0.92",
+            "initial",
+            "any_token",
+            "jaro_winkler >= 0.8",
+        ];
+        let got = levels_of(
+            Attr::GivenName,
+            &levels,
+            &[
+                "петров",
+                "петров",
+                "соколова",
+                "петрова",
+                "παπαδόπουλος",
+                "王",
+                "petrov",
+            ],
+        );
+        // JW(петров, петрова) = 0.971 (6 of 7 characters, common prefix 4; computed by
+        // hand with the Winkler formula).
+        assert_eq!(
+            got,
+            [
+                "exact",
+                "disagree",
+                "jaro_winkler >= 0.92",
+                "disagree",
+                "disagree",
+                "disagree"
+            ]
+        );
+        // Two CJK names: different, not equal after folding.
+        let got = levels_of(Attr::GivenName, &levels, &["王", "李"]);
+        assert_eq!(got, ["disagree"]);
     }
 
     #[test]

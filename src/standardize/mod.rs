@@ -47,8 +47,8 @@ pub mod text;
 pub use dates::parse_date;
 pub use nicknames::{nickname_entry, nickname_equivalent, nickname_groups, NicknameEntry};
 pub use text::{
-    casefold, clean_text, fold_ascii, translit_din, translit_equivalent, translit_key,
-    translit_variants,
+    casefold, clean_text, fold_ascii, fold_for_comparison, folds_fully, translit_din,
+    translit_equivalent, translit_key, translit_variants,
 };
 
 use crate::record::{Attr, StdRecord};

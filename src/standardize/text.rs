@@ -167,6 +167,32 @@ fn special_ascii(c: char) -> Option<&'static str> {
     })
 }
 
+/// Whether [`fold_ascii`] keeps every letter and digit of `s` (Latin script with
+/// diacritics does; Cyrillic, Greek, CJK, Arabic, ... do not: their letters have no ASCII
+/// form here and would be dropped).
+pub fn folds_fully(s: &str) -> bool {
+    s.is_ascii()
+        || s.nfkd().all(|c| {
+            c.is_ascii()
+                || !c.is_alphanumeric()
+                || is_combining_mark(c)
+                || special_ascii(c).is_some()
+                || c.to_lowercase()
+                    .any(|l| l.is_ascii() || special_ascii(l).is_some())
+        })
+}
+
+/// The form values are compared in: [`fold_ascii`] where it keeps every letter and
+/// digit, else the value itself, lower-cased. Folding a name in another script would
+/// leave nothing, and two different names would look equal.
+pub fn fold_for_comparison(s: &str) -> String {
+    if folds_fully(s) {
+        fold_ascii(s)
+    } else {
+        s.to_lowercase()
+    }
+}
+
 /// Blind ASCII folding for comparison and phonetic keys: `Müller` -> `muller`.
 ///
 /// NFKD, drop combining marks, replace the letters NFKD leaves alone (`ß`→`ss`,
@@ -245,6 +271,9 @@ fn collapsible(b: &[u8], i: usize) -> bool {
 /// the pair can stand for an umlaut (rule and trade-off in the module doc).
 /// `müller`, `mueller` and `muller` all give `muller`; `samuel` stays `samuel`.
 pub fn translit_key(s: &str) -> String {
+    if !folds_fully(s) {
+        return s.to_lowercase();
+    }
     let folded = fold_ascii(s);
     let b = folded.as_bytes();
     let mut out = Vec::with_capacity(b.len());
@@ -273,6 +302,10 @@ pub fn translit_key(s: &str) -> String {
 /// the blind fold, the DIN 5007-2 form and the [`translit_key`], without duplicates.
 /// `müller` -> [`muller`, `mueller`]; `mueller` -> [`mueller`, `muller`].
 pub fn translit_variants(s: &str) -> Vec<String> {
+    if !folds_fully(s) {
+        // Another script: no Latin transliteration variants, only the value itself.
+        return vec![s.to_lowercase()];
+    }
     let mut out = vec![fold_ascii(s)];
     for v in [translit_din(s), translit_key(s)] {
         if !out.contains(&v) {
@@ -419,6 +452,23 @@ mod tests {
     }
 
     #[test]
+    fn other_scripts_are_kept_for_comparison() {
+        for s in ["Петров", "Παπαδόπουλος", "王", "محمد", "Müller-Петров"]
+        {
+            assert!(!folds_fully(s), "{s}");
+            assert_eq!(fold_for_comparison(s), s.to_lowercase());
+        }
+        for s in ["Müller", "Ærø", "O'Brien", "Łódź", "straße", "12-b"] {
+            assert!(folds_fully(s), "{s}");
+        }
+        // Different names in another script are not transliteration-equivalent.
+        assert!(!translit_equivalent("петров", "соколова"));
+        assert!(translit_equivalent("петров", "петров"));
+        assert_eq!(translit_variants("петров"), vec!["петров"]);
+        assert!(translit_equivalent("müller", "mueller"));
+    }
+
+    #[test]
     fn variants_contain_blind_and_din_forms() {
         assert_eq!(translit_variants("müller"), vec!["muller", "mueller"]);
         assert_eq!(translit_variants("mueller"), vec!["mueller", "muller"]);
@@ -457,6 +507,12 @@ mod tests {
             prop_assert!(translit_equivalent(&d, &e));
             prop_assert!(translit_equivalent(&d, &u));
             prop_assert!(translit_equivalent(&e, &u));
+        }
+
+        #[test]
+        fn latin_values_compare_in_their_ascii_folding(s in "[a-zA-ZäöüÄÖÜßøØåÅæÆœŒłŁéèêçñ' -]{0,30}") {
+            prop_assert!(folds_fully(&s));
+            prop_assert_eq!(fold_for_comparison(&s), fold_ascii(&s));
         }
 
         #[test]
