@@ -331,3 +331,34 @@ fn timings_report_stages_and_the_cpu_share_of_standardizing() {
         .unwrap_or_else(|| panic!("no share in {line:?}"));
     assert!((0.0..=100.0).contains(&share), "{line}");
 }
+
+#[test]
+fn semicolon_files_link_like_comma_files() {
+    // The shop file rewritten with `;` between fields (as many European spreadsheet
+    // exports write them) and `delimiter = ";"` in its source: the same crosswalk.
+    let dir = mini_copy();
+    let plain = link(dir.path(), "plain", &["--quiet"], Some(1));
+    assert!(plain.status.success(), "{}", text(&plain).1);
+    let rows = read_csv(&dir.path().join("shop.csv"));
+    let mut w = csv::WriterBuilder::new()
+        .delimiter(b';')
+        .from_path(dir.path().join("shop.csv"))
+        .unwrap();
+    for r in &rows {
+        w.write_record(r).unwrap();
+    }
+    w.flush().unwrap();
+    let spec = std::fs::read_to_string(dir.path().join("spec.toml")).unwrap();
+    let spec = spec.replace(
+        "path = \"shop.csv\"",
+        "path = \"shop.csv\"\ndelimiter = \";\"",
+    );
+    assert!(spec.contains("delimiter"));
+    std::fs::write(dir.path().join("spec.toml"), spec).unwrap();
+    let semi = link(dir.path(), "semi", &["--quiet"], Some(1));
+    assert!(semi.status.success(), "{}", text(&semi).1);
+    let a = read_csv(&dir.path().join("plain/crosswalk.csv"));
+    let b = read_csv(&dir.path().join("semi/crosswalk.csv"));
+    assert_eq!(a, b);
+    assert!(a.len() > 5);
+}

@@ -300,6 +300,7 @@ fn load_source(
     let mut reader = csv::ReaderBuilder::new()
         .flexible(true)
         .has_headers(true)
+        .delimiter(src.delimiter)
         .from_reader(std::io::BufReader::with_capacity(1 << 20, file));
     let headers = read_headers(&mut reader, path)?;
     let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;

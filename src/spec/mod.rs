@@ -58,6 +58,8 @@ pub struct SourceSpec {
     pub path: PathBuf,
     /// Header of the id column.
     pub id_column: String,
+    /// Field delimiter of the CSV file (`,` unless the spec says otherwise).
+    pub delimiter: u8,
     /// Country, date order and name order of the source.
     pub conventions: Conventions,
     /// Standard attribute → CSV header.
@@ -672,6 +674,7 @@ impl Walker {
                 "country",
                 "date_order",
                 "name_order",
+                "delimiter",
                 "columns",
             ],
         )?;
@@ -721,6 +724,22 @@ impl Walker {
                 ))
             }
         };
+        let delimiter = match self.string(t, at, "delimiter")? {
+            None => b',',
+            Some("\\t" | "tab") => b'\t',
+            Some(d) if d.len() == 1 && d.is_ascii() && !matches!(d, "\"" | "\n" | "\r") => {
+                d.as_bytes()[0]
+            }
+            Some(d) => {
+                return Err(self.err(
+                    join(at, "delimiter"),
+                    format!(
+                        "`{}` is not one ASCII character; use e.g. \",\", \";\", \"|\" or \"\\t\" (tab)",
+                        d.escape_default()
+                    ),
+                ))
+            }
+        };
         let cols_at = join(at, "columns");
         let cols = match t.get("columns") {
             Some(Value::Table(c)) => c,
@@ -764,6 +783,7 @@ impl Walker {
             name,
             path,
             id_column,
+            delimiter,
             conventions: Conventions {
                 country,
                 date_order,
@@ -1143,6 +1163,22 @@ unique = ["email"]
         let c = parse(&GOOD.replace("0.92", "0.9")).unwrap();
         assert_eq!(a.model_fingerprint(), b.model_fingerprint());
         assert_ne!(a.model_fingerprint(), c.model_fingerprint());
+    }
+
+    #[test]
+    fn delimiters() {
+        assert_eq!(parse(GOOD).unwrap().sources[0].delimiter, b',');
+        let with = |d: &str| GOOD.replace("id = \"id\"", &format!("id = \"id\"\ndelimiter = {d}"));
+        assert_eq!(parse(&with("\";\"")).unwrap().sources[0].delimiter, b';');
+        // A TOML tab escape, and the two spellings that survive literal strings.
+        assert_eq!(parse(&with("\"\\t\"")).unwrap().sources[0].delimiter, b'\t');
+        assert_eq!(parse(&with("'\\t'")).unwrap().sources[0].delimiter, b'\t');
+        assert_eq!(parse(&with("\"tab\"")).unwrap().sources[0].delimiter, b'\t');
+        for bad in ["\";;\"", "\"\"", "\"é\"", "'\"'"] {
+            let (k, m) = err_of(&with(bad));
+            assert_eq!(k, "source[1].delimiter", "{bad}");
+            assert!(m.contains("one ASCII character"), "{m}");
+        }
     }
 
     #[test]
