@@ -362,3 +362,44 @@ fn semicolon_files_link_like_comma_files() {
     assert_eq!(a, b);
     assert!(a.len() > 5);
 }
+
+#[test]
+fn windows_1252_files_link_like_utf8_files() {
+    // A shop file with accents, once in UTF-8 and once in windows-1252 (as older
+    // systems export it) with `encoding = "windows-1252"`: the same crosswalk. Without
+    // the setting the accented row is rejected as invalid UTF-8, not misread.
+    let dir = mini_copy();
+    let shop = dir.path().join("shop.csv");
+    let original = std::fs::read_to_string(&shop).unwrap();
+    let accented = original.replacen("Berglund, Anna", "Berglünd, Anna", 1);
+    assert_ne!(accented, original);
+    std::fs::write(&shop, &accented).unwrap();
+    let utf8 = link(dir.path(), "utf8", &["--quiet"], Some(1));
+    assert!(utf8.status.success(), "{}", text(&utf8).1);
+
+    // windows-1252 and Latin-1 agree on ü (0xFC).
+    let legacy: Vec<u8> = accented
+        .chars()
+        .map(|c| u8::try_from(u32::from(c)).expect("Latin-1 text"))
+        .collect();
+    std::fs::write(&shop, legacy).unwrap();
+    let undeclared = link(dir.path(), "undeclared", &["--quiet"], Some(1));
+    assert!(undeclared.status.success(), "{}", text(&undeclared).1);
+    let rejects = std::fs::read_to_string(dir.path().join("undeclared/rejects.csv")).unwrap();
+    assert!(rejects.contains("UTF-8"), "{rejects}");
+
+    let spec_path = dir.path().join("spec.toml");
+    let spec = std::fs::read_to_string(&spec_path).unwrap();
+    let spec = spec.replace(
+        "path = \"shop.csv\"",
+        "path = \"shop.csv\"\nencoding = \"windows-1252\"",
+    );
+    assert!(spec.contains("encoding"));
+    std::fs::write(&spec_path, spec).unwrap();
+    let declared = link(dir.path(), "declared", &["--quiet"], Some(1));
+    assert!(declared.status.success(), "{}", text(&declared).1);
+    assert_eq!(
+        read_csv(&dir.path().join("utf8/crosswalk.csv")),
+        read_csv(&dir.path().join("declared/crosswalk.csv"))
+    );
+}

@@ -8,6 +8,7 @@
 //! that is unusable as a whole (missing, empty, unknown column, duplicate ids) is an
 //! error naming the file and what would fix it.
 
+use std::io::Read;
 use std::path::Path;
 use std::time::Duration;
 
@@ -26,6 +27,9 @@ use crate::spec::{SourceSpec, Spec};
 use crate::standardize::{standardize, Conventions, StdStats};
 use crate::util::cpu::thread_cpu;
 use crate::util::Progress;
+
+mod encoding;
+pub use encoding::Encoding;
 
 /// Rows read per chunk; one chunk is standardized while the next is read and the
 /// previous one is interned.
@@ -159,7 +163,7 @@ impl RawChunk {
 /// A source file being read chunk by chunk.
 struct SourceReader<'a> {
     src: &'a SourceSpec,
-    reader: csv::Reader<std::io::BufReader<std::fs::File>>,
+    reader: csv::Reader<std::io::BufReader<Box<dyn Read + Send>>>,
     headers: Vec<String>,
     id_at: usize,
     /// Mapped columns: attribute and field index.
@@ -301,7 +305,10 @@ fn load_source(
         .flexible(true)
         .has_headers(true)
         .delimiter(src.delimiter)
-        .from_reader(std::io::BufReader::with_capacity(1 << 20, file));
+        .from_reader(std::io::BufReader::with_capacity(
+            1 << 20,
+            decoded(file, src.encoding),
+        ));
     let headers = read_headers(&mut reader, path)?;
     let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;
     let mut mapped: Vec<(Attr, usize)> = Vec::new();
@@ -517,6 +524,14 @@ impl RawRecord {
             s.push_str(v);
             *slot = Some(s);
         }
+    }
+}
+
+/// The file as UTF-8: as it is, or decoded from the source's single-byte encoding.
+fn decoded(file: std::fs::File, encoding: Encoding) -> Box<dyn Read + Send> {
+    match encoding {
+        Encoding::Utf8 => Box::new(file),
+        other => Box::new(encoding::Decode::new(file, other)),
     }
 }
 

@@ -60,6 +60,8 @@ pub struct SourceSpec {
     pub id_column: String,
     /// Field delimiter of the CSV file (`,` unless the spec says otherwise).
     pub delimiter: u8,
+    /// Character encoding of the CSV file (UTF-8 unless the spec says otherwise).
+    pub encoding: crate::sources::Encoding,
     /// Country, date order and name order of the source.
     pub conventions: Conventions,
     /// Standard attribute → CSV header.
@@ -675,6 +677,7 @@ impl Walker {
                 "date_order",
                 "name_order",
                 "delimiter",
+                "encoding",
                 "columns",
             ],
         )?;
@@ -740,6 +743,18 @@ impl Walker {
                 ))
             }
         };
+        let encoding = match self.string(t, at, "encoding")? {
+            None => crate::sources::Encoding::Utf8,
+            Some(e) => crate::sources::Encoding::from_name(e).ok_or_else(|| {
+                self.err(
+                    join(at, "encoding"),
+                    format!(
+                        "`{e}` is not supported; use one of {}",
+                        crate::sources::Encoding::NAMES
+                    ),
+                )
+            })?,
+        };
         let cols_at = join(at, "columns");
         let cols = match t.get("columns") {
             Some(Value::Table(c)) => c,
@@ -784,6 +799,7 @@ impl Walker {
             path,
             id_column,
             delimiter,
+            encoding,
             conventions: Conventions {
                 country,
                 date_order,
@@ -1179,6 +1195,25 @@ unique = ["email"]
             assert_eq!(k, "source[1].delimiter", "{bad}");
             assert!(m.contains("one ASCII character"), "{m}");
         }
+    }
+
+    #[test]
+    fn encodings() {
+        use crate::sources::Encoding;
+        assert_eq!(parse(GOOD).unwrap().sources[0].encoding, Encoding::Utf8);
+        let with =
+            |e: &str| GOOD.replace("id = \"id\"", &format!("id = \"id\"\nencoding = \"{e}\""));
+        assert_eq!(
+            parse(&with("cp1252")).unwrap().sources[0].encoding,
+            Encoding::Windows1252
+        );
+        assert_eq!(
+            parse(&with("Latin-1")).unwrap().sources[0].encoding,
+            Encoding::Latin1
+        );
+        let (k, m) = err_of(&with("ebcdic"));
+        assert_eq!(k, "source[1].encoding");
+        assert!(m.contains("`ebcdic`") && m.contains("windows-1252"), "{m}");
     }
 
     #[test]
