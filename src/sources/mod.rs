@@ -245,7 +245,7 @@ impl SourceReader<'_> {
                     .position(|f| std::str::from_utf8(f).is_err())
                     .unwrap_or(0);
                 let reason = format!(
-                    "invalid UTF-8 in column `{}` (field {}); re-export the file as UTF-8",
+                    "invalid UTF-8 in column `{}` (field {}); re-export the file as UTF-8, or declare its `encoding` (e.g. \"windows-1252\") in the spec",
                     self.headers[col],
                     col + 1
                 );
@@ -552,7 +552,7 @@ fn read_headers<R: std::io::Read>(reader: &mut csv::Reader<R>, path: &Path) -> R
             Error::input(
                 path,
                 format!(
-                    "line 1, column {}: the header is not valid UTF-8; re-export as UTF-8",
+                    "line 1, column {}: the header is not valid UTF-8; re-export as UTF-8 or declare the `encoding` of the source in the spec",
                     i + 1
                 ),
             )
