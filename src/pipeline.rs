@@ -914,7 +914,6 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
     let tasks = blocking.tasks();
     let clock = t.record("read + block", clock);
     let n_levels = comparison.n_levels();
-    let k = comparison.len();
     let n_keys = blocking.keys.len();
     // Level counts per key, per class (0 = true match, 1 = non-match), per attribute.
     type Counts = Vec<[Vec<Vec<u64>>; 2]>;
@@ -938,11 +937,7 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
                     let class = usize::from(entity[a as usize] != entity[b as usize]);
                     seen[class] += 1;
                     let g = comparison.gamma(&table, a, b, &mut scratch);
-                    for (kk, row) in counts[task.key][class].iter_mut().enumerate().take(k) {
-                        if g[kk] != crate::compare::MISSING_LEVEL {
-                            row[g[kk] as usize] += 1;
-                        }
-                    }
+                    model::count_levels(&mut counts[task.key][class], &g);
                 });
                 pair_counts[2 * task.key].fetch_add(seen[0], Ordering::Relaxed);
                 pair_counts[2 * task.key + 1].fetch_add(seen[1], Ordering::Relaxed);
@@ -953,12 +948,8 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
     let mut by_key = empty();
     for part in parts {
         for (t, p) in by_key.iter_mut().zip(part) {
-            for (tc, pc) in t.iter_mut().zip(p) {
-                for (row, prow) in tc.iter_mut().zip(pc) {
-                    for (x, y) in row.iter_mut().zip(prow) {
-                        *x += y;
-                    }
-                }
+            for (tc, pc) in t.iter_mut().zip(&p) {
+                model::add_level_counts(tc, pc);
             }
         }
     }

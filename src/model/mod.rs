@@ -462,6 +462,25 @@ impl<'a> Scorer<'a> {
     }
 }
 
+/// Count one comparison vector into per-attribute level rows (missing levels are not
+/// counted).
+pub fn count_levels(rows: &mut [Vec<u64>], g: &Gamma) {
+    for (k, row) in rows.iter_mut().enumerate() {
+        if g[k] != MISSING_LEVEL {
+            row[g[k] as usize] += 1;
+        }
+    }
+}
+
+/// Add the level counts `from` into `into` (same shape).
+pub fn add_level_counts(into: &mut [Vec<u64>], from: &[Vec<u64>]) {
+    for (row, other) in into.iter_mut().zip(from) {
+        for (x, y) in row.iter_mut().zip(other) {
+            *x += y;
+        }
+    }
+}
+
 /// Level counts among random record pairs: `[attribute][level]`, and pairs drawn.
 pub fn estimate_u(
     table: &RecordTable,
@@ -474,20 +493,13 @@ pub fn estimate_u(
     let all = n * n.saturating_sub(1) / 2;
     let n_levels = comparison.n_levels();
     let empty = || n_levels.iter().map(|&l| vec![0u64; l]).collect::<Vec<_>>();
-    let add = |counts: &mut Vec<Vec<u64>>, g: &Gamma| {
-        for (k, row) in counts.iter_mut().enumerate() {
-            if g[k] != MISSING_LEVEL {
-                row[g[k] as usize] += 1;
-            }
-        }
-    };
     let (counts, drawn) = if all <= sample as u64 {
         // Small data: every pair.
         let mut counts = empty();
         let mut scratch = comparison.scratch();
         for a in 0..n as u32 {
             for b in a + 1..n as u32 {
-                add(&mut counts, &comparison.gamma(table, a, b, &mut scratch));
+                count_levels(&mut counts, &comparison.gamma(table, a, b, &mut scratch));
             }
         }
         (counts, all)
@@ -507,18 +519,14 @@ pub fn estimate_u(
                     if b >= a {
                         b += 1;
                     }
-                    add(&mut counts, &comparison.gamma(table, a, b, &mut scratch));
+                    count_levels(&mut counts, &comparison.gamma(table, a, b, &mut scratch));
                 }
                 counts
             })
             .collect();
         let mut counts = empty();
         for p in parts {
-            for (row, prow) in counts.iter_mut().zip(p) {
-                for (x, y) in row.iter_mut().zip(prow) {
-                    *x += y;
-                }
-            }
+            add_level_counts(&mut counts, &p);
         }
         (counts, sample as u64)
     };
