@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
-"""Baseline linkage in plain DuckDB SQL, the way an analyst without kinlink would do it.
+"""Baseline linkage in plain DuckDB SQL, the way an analyst without samekey would do it.
 
-In: a folder written by `kinlink synth` (crm_contacts.csv, webshop_accounts.csv,
+In: a folder written by `samekey synth` (crm_contacts.csv, webshop_accounts.csv,
 support_tickets.csv). Out: a crosswalk CSV with header `source,source_id,customer_key`
 (one row per input record) and, on stderr, the time spent per step.
 

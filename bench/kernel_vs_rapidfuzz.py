@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""One-core Jaro-Winkler throughput: kinlink's JaroMatcher against rapidfuzz.
+"""One-core Jaro-Winkler throughput: samekey's JaroMatcher against rapidfuzz.
 
 Requirements (this script installs nothing itself):
 
@@ -17,12 +17,12 @@ What it does:
      scorer=JaroWinkler.normalized_similarity, dtype=float64, workers=1)`: all names against
      all names on one core, best of --repeat runs.
   3. Builds and runs `cargo run --release --example jw_throughput` on the same names file,
-     which times kinlink's `JaroMatcher` (one query against all names, for every query) and
-     `strsim::jaro_winkler` the same way on one core. The headline kinlink number uses the
+     which times samekey's `JaroMatcher` (one query against all names, for every query) and
+     `strsim::jaro_winkler` the same way on one core. The headline samekey number uses the
      fastest public API, `JaroMatcher::jaro_winkler_corpus` against a `JaroCorpus` of all
      names (prepared once, as cdist prepares its choices); `jaro_winkler_many` over plain
      `&[&str]` and one `jaro_winkler` call per pair are shown too.
-  4. Checks that kinlink's scores for the first --sample-rows names against all names equal
+  4. Checks that samekey's scores for the first --sample-rows names against all names equal
      rapidfuzz's within 1e-9, and prints pairs per second side by side.
 """
 
@@ -106,7 +106,7 @@ def run_rapidfuzz(names, repeat):
     return best, matrix
 
 
-def run_kinlink(names_path, sample_path, repeat, sample_rows, repo):
+def run_samekey(names_path, sample_path, repeat, sample_rows, repo):
     subprocess.run(
         ["cargo", "build", "--release", "--quiet", "--example", "jw_throughput"],
         cwd=repo,
@@ -145,7 +145,7 @@ def main():
             f.write("\n".join(names) + "\n")
 
         rf_secs, matrix = run_rapidfuzz(names, args.repeat)
-        kl = run_kinlink(names_path, sample_path, args.repeat, args.sample_rows, repo)
+        kl = run_samekey(names_path, sample_path, args.repeat, args.sample_rows, repo)
 
         sample = np.loadtxt(sample_path, delimiter="\t", ndmin=2)
         rows = sample[:, 0].astype(int)
@@ -153,7 +153,7 @@ def main():
         diff = np.abs(sample[:, 2] - matrix[rows, cols])
         max_diff = float(diff.max()) if len(diff) else 0.0
 
-    kl_pps = float(kl["kinlink_pairs_per_sec"])
+    kl_pps = float(kl["samekey_pairs_per_sec"])
     ss_pps = float(kl["strsim_pairs_per_sec"])
     rf_pps = pairs / rf_secs
     non_ascii = sum(1 for n in names if not n.isascii())
@@ -162,18 +162,18 @@ def main():
     print(f"{'implementation':<44} {'seconds':>9} {'pairs/s':>14} {'ns/pair':>8}")
     for label, secs, pps in [
         (f"rapidfuzz {rapidfuzz_version} cdist(workers=1)", rf_secs, rf_pps),
-        ("kinlink jaro_winkler_corpus (JaroCorpus)", float(kl["kinlink_seconds"]), kl_pps),
-        ("kinlink jaro_winkler_many (&[&str])", float(kl["kinlink_many_seconds"]),
-         float(kl["kinlink_many_pairs_per_sec"])),
-        ("kinlink jaro_winkler (one call per pair)", float(kl["kinlink_single_seconds"]),
-         float(kl["kinlink_single_pairs_per_sec"])),
+        ("samekey jaro_winkler_corpus (JaroCorpus)", float(kl["samekey_seconds"]), kl_pps),
+        ("samekey jaro_winkler_many (&[&str])", float(kl["samekey_many_seconds"]),
+         float(kl["samekey_many_pairs_per_sec"])),
+        ("samekey jaro_winkler (one call per pair)", float(kl["samekey_single_seconds"]),
+         float(kl["samekey_single_pairs_per_sec"])),
         ("strsim jaro_winkler", float(kl["strsim_seconds"]), ss_pps),
     ]:
         print(f"{label:<44} {secs:>9.4f} {pps:>14,.0f} {1e9 / pps:>8.1f}")
-    print(f"kinlink / rapidfuzz throughput: {kl_pps / rf_pps:.2f}x")
+    print(f"samekey / rapidfuzz throughput: {kl_pps / rf_pps:.2f}x")
     print(f"checked {len(diff)} scores against rapidfuzz: max |diff| = {max_diff:.3g}")
     if not max_diff <= 1e-9:
-        print("MISMATCH: kinlink and rapidfuzz disagree by more than 1e-9", file=sys.stderr)
+        print("MISMATCH: samekey and rapidfuzz disagree by more than 1e-9", file=sys.stderr)
         sys.exit(1)
 
 

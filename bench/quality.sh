@@ -17,7 +17,7 @@ while [ $# -gt 0 ]; do
   esac
 done
 cargo build --release --quiet
-K=target/release/kinlink
+K=target/release/samekey
 W=target/bench/quality
 rm -rf "$W"; mkdir -p "$W"
 

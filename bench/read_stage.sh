@@ -1,10 +1,10 @@
 #!/usr/bin/env bash
-# Time the "read + standardize" stage of `kinlink link` for several binaries, side by
+# Time the "read + standardize" stage of `samekey link` for several binaries, side by
 # side: the binaries run alternately, ROUNDS times each, on the same spec, so that the
 # load of a shared machine hits them alike.
 #
 # usage: bench/read_stage.sh SPEC ROUNDS BINARY...
-# e.g.   bench/read_stage.sh /tmp/p1m/spec.toml 3 /tmp/kinlink-old target/release/kinlink
+# e.g.   bench/read_stage.sh /tmp/p1m/spec.toml 3 /tmp/samekey-old target/release/samekey
 #
 # The spec's [[block]] sections are replaced by one block on BLOCK_KEY (default
 # `email`) so that the later stages stay short; the copy is written next to the spec

@@ -2,8 +2,8 @@
 """Summarize the runs of bench/run.sh as a Markdown report.
 
 In: the work folder of bench/run.sh with, per size N and seed S, `run-N-sS/` holding
-`kinlink.time`, `duckdb.time` (GNU time -v output), `kinlink.eval.json`,
-`duckdb.eval.json` (`kinlink evaluate --json`), `kinlink.log` (the `link --timings`
+`samekey.time`, `duckdb.time` (GNU time -v output), `samekey.eval.json`,
+`duckdb.eval.json` (`samekey evaluate --json`), `samekey.log` (the `link --timings`
 summary), `duckdb.log.err` (the baseline's step times) and, when data was generated,
 `synth.time`. Out: the report on stdout and in the --out file.
 
@@ -73,7 +73,7 @@ def parse_eval(path):
             "b3": j["bcubed"],
         }
     except (ValueError, KeyError) as e:
-        fail(f"{path} is not `kinlink evaluate --json` output ({e})")
+        fail(f"{path} is not `samekey evaluate --json` output ({e})")
 
 
 def parse_stage_lines(text, start_marker):
@@ -92,7 +92,7 @@ def parse_stage_lines(text, start_marker):
     return out
 
 
-def kinlink_info(path):
+def samekey_info(path):
     text = read(path)
     info = {"stages": parse_stage_lines(text, "Timings")}
     m = re.search(r"candidate pairs: (\d+)", text)
@@ -180,13 +180,13 @@ def main():
         rows.append({
             "n": int(n),
             "synth": parse_time(synth) if os.path.exists(synth) else None,
-            "k_time": parse_time(os.path.join(run, "kinlink.time")),
+            "k_time": parse_time(os.path.join(run, "samekey.time")),
             "d_time": parse_time(os.path.join(run, "duckdb.time")),
-            "k_eval": parse_eval(os.path.join(run, "kinlink.eval.json")),
+            "k_eval": parse_eval(os.path.join(run, "samekey.eval.json")),
             "d_eval": parse_eval(os.path.join(run, "duckdb.eval.json")),
-            "k_info": kinlink_info(os.path.join(run, "kinlink.log")),
+            "k_info": samekey_info(os.path.join(run, "samekey.log")),
             "d_info": duckdb_info(os.path.join(run, "duckdb.log.err")),
-            "k_big": largest_cluster(os.path.join(run, "kinlink", "crosswalk.csv")),
+            "k_big": largest_cluster(os.path.join(run, "samekey", "crosswalk.csv")),
             "d_big": largest_cluster(os.path.join(run, "duckdb", "crosswalk.csv")),
         })
 
@@ -198,25 +198,25 @@ def main():
     today = datetime.date.today().isoformat()
 
     md = []
-    md.append(f"# kinlink and a plain-DuckDB baseline, {today}\n")
+    md.append(f"# samekey and a plain-DuckDB baseline, {today}\n")
     md.append(
         f"`bench/run.sh --sizes {args.sizes} --seed {args.seed} --threads {args.threads}`; "
-        f"kinlink {commit}, {rustc}; DuckDB {duck} with {args.threads} threads; "
+        f"samekey {commit}, {rustc}; DuckDB {duck} with {args.threads} threads; "
         f"{machine()}.\n"
     )
     md.append(
-        "Data: invented customers from `kinlink synth --customers N --seed S` (three "
+        "Data: invented customers from `samekey synth --customers N --seed S` (three "
         "sources: crm, webshop, support). Times are wall clock of the whole process and "
-        "peak RSS from GNU `time -v`. kinlink runs `link --pairs linked --timings` on the "
+        "peak RSS from GNU `time -v`. samekey runs `link --pairs linked --timings` on the "
         "spec synth writes, fitting its model by EM in the same run; the baseline is "
         "`bench/duckdb_baseline.py` (SQL standardization, block on family-name prefix 3 + "
         "given initial, Jaro-Winkler rules, connected components). Both crosswalks are "
-        "scored by `kinlink evaluate` against the synth truth.\n"
+        "scored by `samekey evaluate` against the synth truth.\n"
     )
     md.append(
-        "| customers | records | kinlink time | kinlink peak RSS | kinlink pairwise F1 "
-        "| kinlink B-cubed F1 | DuckDB time | DuckDB peak RSS | DuckDB pairwise F1 "
-        "| DuckDB B-cubed F1 | time DuckDB / kinlink | CPU time DuckDB / kinlink |"
+        "| customers | records | samekey time | samekey peak RSS | samekey pairwise F1 "
+        "| samekey B-cubed F1 | DuckDB time | DuckDB peak RSS | DuckDB pairwise F1 "
+        "| DuckDB B-cubed F1 | time DuckDB / samekey | CPU time DuckDB / samekey |"
     )
     md.append("|" + "---:|" * 12)
     for r in rows:
@@ -246,7 +246,7 @@ def main():
     )
     md.append("|---:|---|" + "---:|" * 12)
     for r in rows:
-        for tool, e, t, big in (("kinlink", r["k_eval"], r["k_time"], r["k_big"]),
+        for tool, e, t, big in (("samekey", r["k_eval"], r["k_time"], r["k_big"]),
                                 ("DuckDB", r["d_eval"], r["d_time"], r["d_big"])):
             pw, b3 = e["pw"], e["b3"]
             md.append(
@@ -273,11 +273,11 @@ def main():
         cpu = ""
         if ki["cpu"]:
             run_cpu, std_cpu = ki["cpu"]
-            cpu = (f"; kinlink CPU time {run_cpu:.1f} s, of which standardizing values "
+            cpu = (f"; samekey CPU time {run_cpu:.1f} s, of which standardizing values "
                    f"{std_cpu:.2f} s ({100 * std_cpu / run_cpu:.0f} %)")
-        md.append(f"N = {r['n']:,}: kinlink {', '.join(extra)}; DuckDB "
+        md.append(f"N = {r['n']:,}: samekey {', '.join(extra)}; DuckDB "
                   f"{dpairs} matched pairs{synth}{cpu}.\n")
-        md.append("| kinlink stage (`--timings`) | s | DuckDB step | s |")
+        md.append("| samekey stage (`--timings`) | s | DuckDB step | s |")
         md.append("|---|---:|---|---:|")
         ks, ds = ki["stages"], di["stages"]
         for i in range(max(len(ks), len(ds))):

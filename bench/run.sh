@@ -1,10 +1,10 @@
 #!/usr/bin/env bash
-# End-to-end benchmark: kinlink against a plain-DuckDB baseline on invented data.
+# End-to-end benchmark: samekey against a plain-DuckDB baseline on invented data.
 #
-# For each size N it generates N customers with `kinlink synth`, links them with
-# `kinlink link` (model fitting included) and with bench/duckdb_baseline.py, measures
+# For each size N it generates N customers with `samekey synth`, links them with
+# `samekey link` (model fitting included) and with bench/duckdb_baseline.py, measures
 # wall time and peak RSS of each with /usr/bin/time -v, scores both crosswalks with
-# `kinlink evaluate`, and prints a table that is also written as Markdown.
+# `samekey evaluate`, and prints a table that is also written as Markdown.
 #
 # Usage: bench/run.sh [--sizes 100000,1000000] [--seed 7] [--smoke]
 #                     [--work DIR] [--results FILE] [--threads 2] [--reuse-data]
@@ -33,8 +33,8 @@ Options:
   --work DIR        generated data, outputs and logs (default target/bench)
   --results FILE    Markdown results (default bench/results-YYYY-MM-DD.md;
                     with --smoke, DIR/results-smoke.md)
-  --threads T       threads for DuckDB (default 2; kinlink uses all cores)
-  --reuse-data      skip `kinlink synth` when DIR/data-N-sS already has truth.csv
+  --threads T       threads for DuckDB (default 2; samekey uses all cores)
+  --reuse-data      skip `samekey synth` when DIR/data-N-sS already has truth.csv
 EOF
 }
 
@@ -99,7 +99,7 @@ step() {
 
 echo "== build (cargo build --release)" >&2
 cargo build --release --quiet || die "cargo build --release failed (see the compiler output above)"
-BIN="$ROOT/target/release/kinlink"
+BIN="$ROOT/target/release/samekey"
 [[ -x "$BIN" ]] || die "$BIN was not built"
 
 echo "== python environment for DuckDB ($WORK/venv)" >&2
@@ -129,20 +129,20 @@ for N in "${SIZE_LIST[@]}"; do
             "$BIN" synth --customers "$N" --seed "$SEED" --out "$DATA"
     fi
     for f in crm_contacts.csv webshop_accounts.csv support_tickets.csv truth.csv spec.toml; do
-        [[ -f "$DATA/$f" ]] || die "kinlink synth did not write $DATA/$f"
+        [[ -f "$DATA/$f" ]] || die "samekey synth did not write $DATA/$f"
     done
 
-    # kinlink end to end, fitting included. No --quiet: it would also hide --timings.
-    step "kinlink link" "$RUN/kinlink.log" "$RUN/kinlink.time" \
-        "$BIN" link --spec "$DATA/spec.toml" --out "$RUN/kinlink" --pairs linked --timings
-    step "kinlink evaluate (kinlink crosswalk)" "$RUN/kinlink.eval.json" - \
-        "$BIN" evaluate --truth "$DATA/truth.csv" --crosswalk "$RUN/kinlink/crosswalk.csv" --json
+    # samekey end to end, fitting included. No --quiet: it would also hide --timings.
+    step "samekey link" "$RUN/samekey.log" "$RUN/samekey.time" \
+        "$BIN" link --spec "$DATA/spec.toml" --out "$RUN/samekey" --pairs linked --timings
+    step "samekey evaluate (samekey crosswalk)" "$RUN/samekey.eval.json" - \
+        "$BIN" evaluate --truth "$DATA/truth.csv" --crosswalk "$RUN/samekey/crosswalk.csv" --json
 
     mkdir -p "$RUN/duckdb"
     step "duckdb baseline" "$RUN/duckdb.log" "$RUN/duckdb.time" \
         "$PY" bench/duckdb_baseline.py --data "$DATA" --out "$RUN/duckdb/crosswalk.csv" \
         --threads "$THREADS"
-    step "kinlink evaluate (duckdb crosswalk)" "$RUN/duckdb.eval.json" - \
+    step "samekey evaluate (duckdb crosswalk)" "$RUN/duckdb.eval.json" - \
         "$BIN" evaluate --truth "$DATA/truth.csv" --crosswalk "$RUN/duckdb/crosswalk.csv" --json
 done
 

@@ -1,4 +1,4 @@
-//! Benchmarks of the string kernels in `kinlink::compare::strings` against `strsim`
+//! Benchmarks of the string kernels in `samekey::compare::strings` against `strsim`
 //! (and Soundex against `rphonetic`).
 //!
 //! Data: invented names built from syllables by a seeded generator (no real people's
@@ -12,10 +12,10 @@ use std::hint::black_box;
 use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
-use kinlink::compare::strings::{
+use samekey::compare::strings::{
     jaro_winkler, levenshtein, levenshtein_within, osa_distance, soundex, JaroCorpus, JaroMatcher,
 };
-use kinlink::util::Rng;
+use samekey::util::Rng;
 use rphonetic::Encoder;
 
 const ASCII_SYLLABLES: &[&str] = &[
@@ -127,7 +127,7 @@ fn bench_jaro_winkler_pairs(c: &mut Criterion) {
             assert_eq!(jaro_winkler(a, b), strsim::jaro_winkler(a, b), "{a} / {b}");
         }
         g.throughput(Throughput::Elements(set.len() as u64));
-        g.bench_with_input(BenchmarkId::new("kinlink", label), set, |bch, set| {
+        g.bench_with_input(BenchmarkId::new("samekey", label), set, |bch, set| {
             bch.iter(|| {
                 set.iter()
                     .map(|(a, b)| jaro_winkler(black_box(a), black_box(b)))
@@ -157,7 +157,7 @@ fn bench_jaro_winkler_one_vs_many(c: &mut Criterion) {
     }
     let mut g = c.benchmark_group("jaro_winkler_one_vs_many");
     g.throughput(Throughput::Elements((queries.len() * names.len()) as u64));
-    g.bench_function("kinlink_matcher", |bch| {
+    g.bench_function("samekey_matcher", |bch| {
         bch.iter(|| {
             let mut sum = 0.0;
             for q in &queries {
@@ -178,7 +178,7 @@ fn bench_jaro_winkler_one_vs_many(c: &mut Criterion) {
             assert_eq!(*s, strsim::jaro_winkler(q, n));
         }
     }
-    g.bench_function("kinlink_matcher_many", |bch| {
+    g.bench_function("samekey_matcher_many", |bch| {
         bch.iter(|| {
             let mut sum = 0.0;
             for q in &queries {
@@ -188,7 +188,7 @@ fn bench_jaro_winkler_one_vs_many(c: &mut Criterion) {
             sum
         })
     });
-    g.bench_function("kinlink_matcher_corpus", |bch| {
+    g.bench_function("samekey_matcher_corpus", |bch| {
         bch.iter(|| {
             let mut sum = 0.0;
             for q in &queries {
@@ -198,7 +198,7 @@ fn bench_jaro_winkler_one_vs_many(c: &mut Criterion) {
             sum
         })
     });
-    g.bench_function("kinlink_free_fn", |bch| {
+    g.bench_function("samekey_free_fn", |bch| {
         bch.iter(|| {
             let mut sum = 0.0;
             for q in &queries {
@@ -239,7 +239,7 @@ fn bench_edit_distances(c: &mut Criterion) {
         }
         g.throughput(Throughput::Elements(set.len() as u64));
         g.bench_with_input(
-            BenchmarkId::new("levenshtein/kinlink", label),
+            BenchmarkId::new("levenshtein/samekey", label),
             set,
             |bch, set| {
                 bch.iter(|| {
@@ -261,7 +261,7 @@ fn bench_edit_distances(c: &mut Criterion) {
             },
         );
         g.bench_with_input(
-            BenchmarkId::new("levenshtein_within_2/kinlink", label),
+            BenchmarkId::new("levenshtein_within_2/samekey", label),
             set,
             |bch, set| {
                 bch.iter(|| {
@@ -271,7 +271,7 @@ fn bench_edit_distances(c: &mut Criterion) {
                 })
             },
         );
-        g.bench_with_input(BenchmarkId::new("osa/kinlink", label), set, |bch, set| {
+        g.bench_with_input(BenchmarkId::new("osa/samekey", label), set, |bch, set| {
             bch.iter(|| {
                 set.iter()
                     .map(|(a, b)| osa_distance(black_box(a), black_box(b)))
@@ -297,7 +297,7 @@ fn bench_soundex(c: &mut Criterion) {
     }
     let mut g = c.benchmark_group("soundex");
     g.throughput(Throughput::Elements(d.family.len() as u64));
-    g.bench_function("kinlink", |bch| {
+    g.bench_function("samekey", |bch| {
         bch.iter(|| {
             d.family
                 .iter()

@@ -4,7 +4,7 @@
 //! In: a CSV whose columns are one level code per attribute, then `count` (further
 //! columns such as `true_matches` are ignored), e.g.
 //! `tests/data/em_reference_patterns.csv`. Codes run from the strongest agreement
-//! (0) downwards, as in kinlink; with `--levels-ascending` they run the other way
+//! (0) downwards, as in samekey; with `--levels-ascending` they run the other way
 //! (0 = disagree), as in that file, and are mirrored on the way in and out.
 //!
 //! Out (stdout): `{"fields", "lambda", "m", "u", "loglik", "iterations",
@@ -15,7 +15,7 @@
 //! ```
 
 use anyhow::{bail, Context};
-use kinlink::model::em::{self, EmOptions, PatternCounts, MISSING_LEVEL};
+use samekey::model::em::{self, EmOptions, PatternCounts, MISSING_LEVEL};
 
 fn main() -> anyhow::Result<()> {
     let args: Vec<String> = std::env::args().skip(1).collect();

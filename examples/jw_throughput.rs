@@ -1,9 +1,9 @@
 //! One-core Jaro–Winkler throughput of `JaroMatcher`, all names against all names.
 //!
 //! In: a UTF-8 file with one name per line. Out (stdout): `key=value` lines with the number of
-//! pairs, the best wall time over the repeats and pairs per second, for kinlink's
-//! `JaroMatcher` (`kinlink_*`: `jaro_winkler_corpus` against a `JaroCorpus` of all names, the
-//! fastest API; `kinlink_many_*`: `jaro_winkler_many` over `&[&str]`; `kinlink_single_*`: one
+//! pairs, the best wall time over the repeats and pairs per second, for samekey's
+//! `JaroMatcher` (`samekey_*`: `jaro_winkler_corpus` against a `JaroCorpus` of all names, the
+//! fastest API; `samekey_many_*`: `jaro_winkler_many` over `&[&str]`; `samekey_single_*`: one
 //! `jaro_winkler` call per pair) and, for reference, `strsim::jaro_winkler`. With `--sample-out FILE` it also
 //! writes the scores of the first `--sample-rows` names against every name
 //! (`row<TAB>col<TAB>score`), so another implementation can be checked against them.
@@ -18,7 +18,7 @@ use std::io::{BufWriter, Write};
 use std::time::Instant;
 
 use anyhow::{bail, Context, Result};
-use kinlink::compare::strings::{JaroCorpus, JaroMatcher};
+use samekey::compare::strings::{JaroCorpus, JaroMatcher};
 
 struct Args {
     names: String,
@@ -94,9 +94,9 @@ fn main() -> Result<()> {
         }
         sum
     });
-    println!("kinlink_seconds={secs:.6}");
-    println!("kinlink_pairs_per_sec={:.0}", pairs / secs);
-    println!("kinlink_checksum={sum:.9}");
+    println!("samekey_seconds={secs:.6}");
+    println!("samekey_pairs_per_sec={:.0}", pairs / secs);
+    println!("samekey_checksum={sum:.9}");
 
     // The batch API over plain string slices (no corpus).
     let (secs, sum) = best_of(args.repeat, || {
@@ -107,9 +107,9 @@ fn main() -> Result<()> {
         }
         sum
     });
-    println!("kinlink_many_seconds={secs:.6}");
-    println!("kinlink_many_pairs_per_sec={:.0}", pairs / secs);
-    println!("kinlink_many_checksum={sum:.9}");
+    println!("samekey_many_seconds={secs:.6}");
+    println!("samekey_many_pairs_per_sec={:.0}", pairs / secs);
+    println!("samekey_many_checksum={sum:.9}");
 
     // One call per pair.
     let (secs, sum) = best_of(args.repeat, || {
@@ -122,9 +122,9 @@ fn main() -> Result<()> {
         }
         sum
     });
-    println!("kinlink_single_seconds={secs:.6}");
-    println!("kinlink_single_pairs_per_sec={:.0}", pairs / secs);
-    println!("kinlink_single_checksum={sum:.9}");
+    println!("samekey_single_seconds={secs:.6}");
+    println!("samekey_single_pairs_per_sec={:.0}", pairs / secs);
+    println!("samekey_single_checksum={sum:.9}");
 
     if args.strsim {
         let (secs, sum) = best_of(args.repeat, || {

@@ -9,7 +9,7 @@ use std::path::PathBuf;
 /// Library result alias.
 pub type Result<T> = std::result::Result<T, Error>;
 
-/// Everything that can go wrong in a kinlink run.
+/// Everything that can go wrong in a samekey run.
 #[derive(Debug, thiserror::Error)]
 #[non_exhaustive]
 pub enum Error {

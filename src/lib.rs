@@ -1,4 +1,4 @@
-//! kinlink decides which customer records from several source systems belong to the
+//! samekey decides which customer records from several source systems belong to the
 //! same real customer, gives each customer a stable surrogate key and publishes a
 //! crosswalk (source system + source id -> customer key).
 //!
@@ -8,7 +8,7 @@
 //! sources -> standardize -> block -> compare -> model (EM) -> classify -> cluster -> keys -> output
 //! ```
 //!
-//! [`pipeline`] chains the stages; the `kinlink` binary is a thin layer of argument
+//! [`pipeline`] chains the stages; the `samekey` binary is a thin layer of argument
 //! parsing on top of it (see `src/commands/`).
 
 pub mod block;

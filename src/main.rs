@@ -1,4 +1,4 @@
-//! The `kinlink` binary: argument parsing and glue over the library.
+//! The `samekey` binary: argument parsing and glue over the library.
 
 use std::process::ExitCode;
 

@@ -171,7 +171,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     if let Some((i, n)) = opts.shard {
         if opts.model.is_none() {
             return Err(Error::Usage(
-                "a sharded run needs a model fitted on all the data: run `kinlink train` first \
+                "a sharded run needs a model fitted on all the data: run `samekey train` first \
                  and pass it with --model"
                     .into(),
             ));
@@ -390,7 +390,7 @@ pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path) -> Result<MergeSummary
             headers.iter().position(|h| h == name).ok_or_else(|| {
                 Error::input(
                     &path,
-                    format!("missing column `{name}`; is this a kinlink pairs file?"),
+                    format!("missing column `{name}`; is this a samekey pairs file?"),
                 )
             })
         };
@@ -1032,7 +1032,7 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
     let attribute = model::attr_models(spec, &comparison, &m, &u);
     let warnings = model::level_warnings(&attribute);
     let fitted = Model {
-        format: "kinlink-model".into(),
+        format: "samekey-model".into(),
         version: model::MODEL_VERSION,
         spec_fingerprint: spec.model_fingerprint(),
         spec_layout: spec.model_layout(),

@@ -1,14 +1,14 @@
-//! `kinlink evaluate` end to end: files in, report and exit code out.
+//! `samekey evaluate` end to end: files in, report and exit code out.
 
 use std::path::Path;
 use std::process::{Command, Output};
 
-fn kinlink(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_kinlink"))
+fn samekey(dir: &Path, args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_samekey"))
         .current_dir(dir)
         .args(args)
         .output()
-        .expect("run kinlink")
+        .expect("run samekey")
 }
 
 fn write_inputs(dir: &Path) {
@@ -35,7 +35,7 @@ fn write_inputs(dir: &Path) {
 fn evaluate_prints_json_scores() {
     let dir = tempfile::tempdir().unwrap();
     write_inputs(dir.path());
-    let out = kinlink(
+    let out = samekey(
         dir.path(),
         &[
             "evaluate",
@@ -71,7 +71,7 @@ fn evaluate_prints_json_scores() {
 fn evaluate_prints_a_table() {
     let dir = tempfile::tempdir().unwrap();
     write_inputs(dir.path());
-    let out = kinlink(
+    let out = samekey(
         dir.path(),
         &[
             "evaluate",
@@ -95,7 +95,7 @@ fn evaluate_bad_input_exits_2_and_names_the_file() {
     let dir = tempfile::tempdir().unwrap();
     write_inputs(dir.path());
     // Pairs file given as the crosswalk: wrong header.
-    let out = kinlink(
+    let out = samekey(
         dir.path(),
         &[
             "evaluate",
@@ -113,7 +113,7 @@ fn evaluate_bad_input_exits_2_and_names_the_file() {
     );
     assert!(err.contains("found `source_a`, `id_a`"), "{err}");
     // Missing file.
-    let out = kinlink(
+    let out = samekey(
         dir.path(),
         &[
             "evaluate",
@@ -125,6 +125,6 @@ fn evaluate_bad_input_exits_2_and_names_the_file() {
     );
     assert_eq!(out.status.code(), Some(2), "{out:?}");
     // Missing required flag.
-    let out = kinlink(dir.path(), &["evaluate", "--truth", "truth.csv"]);
+    let out = samekey(dir.path(), &["evaluate", "--truth", "truth.csv"]);
     assert_eq!(out.status.code(), Some(2), "{out:?}");
 }

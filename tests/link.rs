@@ -1,4 +1,4 @@
-//! `kinlink link` and `kinlink train` on the small invented data.
+//! `samekey link` and `samekey train` on the small invented data.
 
 use crate::common::*;
 use std::collections::HashMap;
@@ -97,7 +97,7 @@ fn train_saves_a_model_that_link_accepts() {
     assert!(o.status.success(), "{}", text(&o).1);
     let m = std::fs::read_to_string(&model).unwrap();
     assert!(
-        m.contains("format = \"kinlink-model\"") && m.contains("[[attribute]]"),
+        m.contains("format = \"samekey-model\"") && m.contains("[[attribute]]"),
         "{m}"
     );
     assert!(
@@ -188,7 +188,7 @@ fn sharded_runs_merge_into_the_unsharded_crosswalk() {
     // A shard run without a model is refused.
     let o = link(d, "x", &["--shard", "1/2"], None);
     assert_eq!(o.status.code(), Some(2));
-    assert!(text(&o).1.contains("kinlink train"));
+    assert!(text(&o).1.contains("samekey train"));
 }
 
 #[test]

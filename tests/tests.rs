@@ -1,4 +1,4 @@
-//! Integration tests: run the `kinlink` binary on small data.
+//! Integration tests: run the `samekey` binary on small data.
 
 mod bad_input;
 mod common;

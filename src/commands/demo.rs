@@ -1,27 +1,27 @@
-//! `kinlink demo`: link the shipped demo data and score the result against its truth.
+//! `samekey demo`: link the shipped demo data and score the result against its truth.
 
 use std::path::PathBuf;
 
-use kinlink::pipeline::{self, RunOptions};
-use kinlink::spec::Spec;
+use samekey::pipeline::{self, RunOptions};
+use samekey::spec::Spec;
 
 use super::{summary, Global};
 
-/// Arguments of `kinlink demo`.
+/// Arguments of `samekey demo`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// Folder with the demo data (spec.toml, the source CSVs, truth.csv).
     #[arg(long, default_value = concat!(env!("CARGO_MANIFEST_DIR"), "/demo-data"))]
     pub data: PathBuf,
     /// Output folder.
-    #[arg(long, default_value = "kinlink-demo-out")]
+    #[arg(long, default_value = "samekey-demo-out")]
     pub out: PathBuf,
     /// Print the time spent per stage.
     #[arg(long)]
     pub timings: bool,
 }
 
-/// Run `kinlink demo`.
+/// Run `samekey demo`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.data.join("spec.toml"))?;
     let opts = RunOptions {
@@ -32,7 +32,7 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let summary = pipeline::run(&spec, &opts)?;
     if !global.quiet {
         println!(
-            "kinlink demo: invented customers of three systems, see {}\n",
+            "samekey demo: invented customers of three systems, see {}\n",
             args.data.display()
         );
         summary::print(&summary, args.timings);

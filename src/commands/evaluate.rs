@@ -1,4 +1,4 @@
-//! `kinlink evaluate`: score a crosswalk (and candidate pairs) against a truth file.
+//! `samekey evaluate`: score a crosswalk (and candidate pairs) against a truth file.
 //!
 //! Prints a table (or JSON with `--json`) on stdout; warnings about records found in
 //! only one file go to stderr. Bad input exits with code 2.
@@ -6,11 +6,11 @@
 use std::io::Write;
 use std::path::PathBuf;
 
-use kinlink::evaluate::{self, Metrics, RecordRef, Scores};
+use samekey::evaluate::{self, Metrics, RecordRef, Scores};
 
 use super::Global;
 
-/// Arguments of `kinlink evaluate`.
+/// Arguments of `samekey evaluate`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// Truth file: CSV with header `source,source_id,entity_id`.
@@ -28,7 +28,7 @@ pub struct Args {
     pub json: bool,
 }
 
-/// Run `kinlink evaluate`.
+/// Run `samekey evaluate`.
 pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
     let metrics = compute(args)?;
     for w in warnings(&metrics) {
@@ -46,10 +46,10 @@ pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
 }
 
 /// Read the files and score them.
-fn compute(args: &Args) -> kinlink::Result<Metrics> {
+fn compute(args: &Args) -> samekey::Result<Metrics> {
     let truth = evaluate::read_truth(&args.truth)?;
     if truth.is_empty() {
-        return Err(kinlink::Error::input(
+        return Err(samekey::Error::input(
             &args.truth,
             "the truth file has no records; add rows under the header \
              `source,source_id,entity_id`",
@@ -58,7 +58,7 @@ fn compute(args: &Args) -> kinlink::Result<Metrics> {
     let crosswalk = evaluate::read_crosswalk(&args.crosswalk)?;
     let mut metrics = evaluate::evaluate(&truth, &crosswalk);
     if metrics.missing_from_crosswalk == metrics.records {
-        return Err(kinlink::Error::input(
+        return Err(samekey::Error::input(
             &args.crosswalk,
             format!(
                 "none of the {} truth records is in the crosswalk; are the files from \
@@ -229,7 +229,7 @@ fn to_json(m: &Metrics) -> serde_json::Value {
 mod tests {
     use super::*;
     use crate::commands::{status_of, ExitStatus};
-    use kinlink::evaluate::Grouping;
+    use samekey::evaluate::Grouping;
 
     fn metrics() -> Metrics {
         let truth = Grouping::from_rows([

@@ -1,14 +1,14 @@
-//! `kinlink explain`: why two records match or not, attribute by attribute.
+//! `samekey explain`: why two records match or not, attribute by attribute.
 
 use std::path::PathBuf;
 
-use kinlink::model::Model;
-use kinlink::pipeline;
-use kinlink::spec::Spec;
+use samekey::model::Model;
+use samekey::pipeline;
+use samekey::spec::Spec;
 
 use super::Global;
 
-/// Arguments of `kinlink explain`.
+/// Arguments of `samekey explain`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// The linkage spec (TOML).
@@ -34,7 +34,7 @@ fn parse_record(s: &str) -> Result<(String, String), String> {
     }
 }
 
-/// Run `kinlink explain`.
+/// Run `samekey explain`.
 pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
     let model = Model::load(&args.model, &spec)?;

@@ -1,14 +1,14 @@
-//! `kinlink link`: run the whole pipeline on the sources a spec names.
+//! `samekey link`: run the whole pipeline on the sources a spec names.
 
 use std::path::PathBuf;
 
 use anyhow::Context;
-use kinlink::pipeline::{self, PairsOutput, RunOptions};
-use kinlink::spec::Spec;
+use samekey::pipeline::{self, PairsOutput, RunOptions};
+use samekey::spec::Spec;
 
 use super::{summary, Global, Hint};
 
-/// Arguments of `kinlink link`.
+/// Arguments of `samekey link`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// The linkage spec (TOML).
@@ -17,7 +17,7 @@ pub struct Args {
     /// Output folder for crosswalk.csv, pairs.csv, review.csv, rejects.csv, model.toml.
     #[arg(long)]
     pub out: PathBuf,
-    /// Use this fitted model instead of fitting one (see `kinlink train`).
+    /// Use this fitted model instead of fitting one (see `samekey train`).
     #[arg(long)]
     pub model: Option<PathBuf>,
     /// Which pairs to write to pairs.csv: every candidate pair, or only match and review.
@@ -30,7 +30,7 @@ pub struct Args {
     #[arg(long)]
     pub truth: Option<PathBuf>,
     /// Score only shard I of N (e.g. `--shard 2/4`); needs --model. Combine the shards'
-    /// outputs with `kinlink merge`.
+    /// outputs with `samekey merge`.
     #[arg(long, value_name = "I/N", value_parser = parse_shard)]
     pub shard: Option<(usize, usize)>,
     /// Print the time spent per stage (also with --quiet).
@@ -70,7 +70,7 @@ impl From<PairsArg> for PairsOutput {
     }
 }
 
-/// Run `kinlink link`.
+/// Run `samekey link`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)
         .map_err(anyhow::Error::from)
@@ -78,16 +78,16 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
             Hint("the spec keys are described in the README, section \"Spec reference\"".into())
         })?;
     if args.shard.is_some() && args.truth.is_some() {
-        return Err(kinlink::Error::Usage(
+        return Err(samekey::Error::Usage(
             "--truth needs a crosswalk, which a shard run does not write; evaluate the output \
-             of `kinlink merge` with `kinlink evaluate`"
+             of `samekey merge` with `samekey evaluate`"
                 .into(),
         )
         .into());
     }
     if let Some(p) = args.target_precision {
         if !(p > 0.0 && p < 1.0) {
-            return Err(kinlink::Error::Usage(format!(
+            return Err(samekey::Error::Usage(format!(
                 "--target-precision {p}: give a precision strictly between 0 and 1, e.g. 0.99"
             ))
             .into());

@@ -1,13 +1,13 @@
-//! `kinlink merge`: cluster the matched pairs of several shard runs into one crosswalk.
+//! `samekey merge`: cluster the matched pairs of several shard runs into one crosswalk.
 
 use std::path::PathBuf;
 
-use kinlink::pipeline;
-use kinlink::spec::Spec;
+use samekey::pipeline;
+use samekey::spec::Spec;
 
 use super::Global;
 
-/// Arguments of `kinlink merge`.
+/// Arguments of `samekey merge`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// The linkage spec the shards were run with.
@@ -16,12 +16,12 @@ pub struct Args {
     /// Output folder for crosswalk.csv and refused.csv.
     #[arg(long)]
     pub out: PathBuf,
-    /// Output folders of the shard runs (`kinlink link --shard I/N`).
+    /// Output folders of the shard runs (`samekey link --shard I/N`).
     #[arg(required = true)]
     pub shards: Vec<PathBuf>,
 }
 
-/// Run `kinlink merge`.
+/// Run `samekey merge`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
     let s = pipeline::merge(&spec, &args.shards, &args.out)?;

@@ -19,7 +19,7 @@ pub mod train;
 
 /// Link customer records from several systems into stable customer keys.
 #[derive(Debug, Parser)]
-#[command(name = "kinlink", version, about, long_about = None)]
+#[command(name = "samekey", version, about, long_about = None)]
 pub struct Cli {
     /// Print nothing but errors (and the stage timings when --timings asks for them).
     #[arg(long, global = true)]
@@ -80,7 +80,7 @@ impl From<ExitStatus> for ExitCode {
 /// Classify an error chain: bad input if any cause is a library bad-input error.
 pub fn status_of(err: &anyhow::Error) -> ExitStatus {
     for cause in err.chain() {
-        if let Some(e) = cause.downcast_ref::<kinlink::Error>() {
+        if let Some(e) = cause.downcast_ref::<samekey::Error>() {
             return if e.is_bad_input() {
                 ExitStatus::BadInput
             } else {

@@ -1,16 +1,16 @@
-//! `kinlink plan`: estimate candidate pairs per blocking key before comparing anything.
+//! `samekey plan`: estimate candidate pairs per blocking key before comparing anything.
 
 use std::path::PathBuf;
 
-use kinlink::block::{self, Blocking};
-use kinlink::evaluate;
-use kinlink::pipeline;
-use kinlink::sources;
-use kinlink::spec::Spec;
+use samekey::block::{self, Blocking};
+use samekey::evaluate;
+use samekey::pipeline;
+use samekey::sources;
+use samekey::spec::Spec;
 
 use super::Global;
 
-/// Arguments of `kinlink plan`.
+/// Arguments of `samekey plan`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// The linkage spec (TOML).
@@ -24,7 +24,7 @@ pub struct Args {
     pub top: usize,
 }
 
-/// Run `kinlink plan`.
+/// Run `samekey plan`.
 pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
     let loaded = sources::load(&spec)?;

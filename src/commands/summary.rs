@@ -1,7 +1,7 @@
 //! The run summary printed by `link` and `demo`.
 
-use kinlink::pipeline::RunSummary;
-use kinlink::record::Attr;
+use samekey::pipeline::RunSummary;
+use samekey::record::Attr;
 
 /// Print what a run did, in the order the stages ran.
 pub fn print(s: &RunSummary, timings: bool) {
@@ -121,7 +121,7 @@ pub fn print_actual(
     s: &RunSummary,
     global: super::Global,
 ) -> anyhow::Result<()> {
-    use kinlink::evaluate;
+    use samekey::evaluate;
     let truth = evaluate::read_truth(truth_path)?;
     let crosswalk = evaluate::read_crosswalk(out.join("crosswalk.csv"))?;
     let mut metrics = evaluate::evaluate(&truth, &crosswalk);
@@ -153,7 +153,7 @@ pub fn print_actual(
 }
 
 /// The time spent per stage, as a table.
-pub fn print_timings(t: &kinlink::pipeline::Timings) {
+pub fn print_timings(t: &samekey::pipeline::Timings) {
     println!("Timings");
     for (stage, d) in &t.stages {
         println!("  {:<24} {:>9.3} s", stage, d.as_secs_f64());

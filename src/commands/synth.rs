@@ -1,13 +1,13 @@
-//! `kinlink synth`: generate multi-source customer data with ground truth.
+//! `samekey synth`: generate multi-source customer data with ground truth.
 
 use std::time::Instant;
 
 use anyhow::Context;
-use kinlink::synth::{self, NoiseConfig, SynthConfig};
+use samekey::synth::{self, NoiseConfig, SynthConfig};
 
 use super::Global;
 
-/// Arguments of `kinlink synth`.
+/// Arguments of `samekey synth`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// Number of distinct customers to generate.
@@ -24,7 +24,7 @@ pub struct Args {
     pub hard: bool,
 }
 
-/// Run `kinlink synth`.
+/// Run `samekey synth`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let cfg = SynthConfig {
         customers: args.customers,

@@ -1,13 +1,13 @@
-//! `kinlink train`: fit a model on the sources a spec names and save it.
+//! `samekey train`: fit a model on the sources a spec names and save it.
 
 use std::path::PathBuf;
 
-use kinlink::pipeline;
-use kinlink::spec::Spec;
+use samekey::pipeline;
+use samekey::spec::Spec;
 
 use super::Global;
 
-/// Arguments of `kinlink train`.
+/// Arguments of `samekey train`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// The linkage spec (TOML).
@@ -22,12 +22,12 @@ pub struct Args {
     pub oracle_truth: Option<PathBuf>,
 }
 
-/// Run `kinlink train`.
+/// Run `samekey train`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
     let t = match &args.oracle_truth {
         None => pipeline::train(&spec)?,
-        Some(p) => pipeline::train_oracle(&spec, &kinlink::evaluate::read_truth(p)?)?,
+        Some(p) => pipeline::train_oracle(&spec, &samekey::evaluate::read_truth(p)?)?,
     };
     t.model.save(&args.out)?;
     if !global.quiet {

@@ -930,7 +930,7 @@ mod tests {
 
     /// The committed reference patterns (`tests/data/em_reference_patterns.csv`,
     /// written by `shared/em_reference.py`). That file codes 0 = disagree and
-    /// 2 = agree; kinlink codes 0 = strongest agreement, so levels are mirrored.
+    /// 2 = agree; samekey codes 0 = strongest agreement, so levels are mirrored.
     fn reference_patterns() -> PatternCounts {
         let path = concat!(
             env!("CARGO_MANIFEST_DIR"),
@@ -946,7 +946,7 @@ mod tests {
         data
     }
 
-    /// Mirror a reference-order row (disagree, partial, agree) into kinlink order.
+    /// Mirror a reference-order row (disagree, partial, agree) into samekey order.
     fn mirrored(rows: [[f64; 3]; 5]) -> Vec<Vec<f64>> {
         rows.iter()
             .map(|r| r.iter().rev().copied().collect())

@@ -103,7 +103,7 @@ pub struct BlockFit {
 /// A fitted model.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Model {
-    /// Always `kinlink-model`.
+    /// Always `samekey-model`.
     pub format: String,
     /// File format version.
     pub version: u32,
@@ -146,7 +146,7 @@ impl Model {
         let text = toml::to_string_pretty(self)
             .map_err(|e| Error::Internal(format!("cannot serialize the model: {e}")))?;
         let header =
-            "# kinlink fitted model: Fellegi–Sunter m/u per attribute level and the match\n\
+            "# samekey fitted model: Fellegi–Sunter m/u per attribute level and the match\n\
                       # prior. Weights are log2(m/u); a missing value adds 0.\n";
         crate::output::write_atomic(path, format!("{header}{text}").as_bytes())
     }
@@ -162,9 +162,9 @@ impl Model {
             file: path.to_path_buf(),
             message,
         };
-        if model.format != "kinlink-model" {
+        if model.format != "samekey-model" {
             return Err(bad(format!(
-                "`format = {:?}`: expected \"kinlink-model\"",
+                "`format = {:?}`: expected \"samekey-model\"",
                 model.format
             )));
         }
@@ -193,7 +193,7 @@ impl Model {
                 diffs.push("the compared attributes are in a different order".into());
             }
             return Err(bad(format!(
-                "fitted on a different spec: {}; fit a new model with `kinlink train`",
+                "fitted on a different spec: {}; fit a new model with `samekey train`",
                 diffs.join("; ")
             )));
         }
@@ -838,7 +838,7 @@ pub fn fit(
     warnings.extend(level_warnings(&attribute));
     Ok(Model {
         warnings,
-        format: "kinlink-model".into(),
+        format: "samekey-model".into(),
         version: MODEL_VERSION,
         spec_fingerprint: spec.model_fingerprint(),
         spec_layout: spec.model_layout(),
@@ -860,7 +860,7 @@ mod tests {
 
     fn model_with(frequency: bool) -> Model {
         Model {
-            format: "kinlink-model".into(),
+            format: "samekey-model".into(),
             version: MODEL_VERSION,
             spec_fingerprint: String::new(),
             spec_layout: String::new(),

@@ -654,7 +654,7 @@ struct Chunk {
 /// Random seed of chunk `chunk` for run seed `seed`.
 fn chunk_seed(seed: u64, chunk: usize) -> u64 {
     let mut bytes = Vec::with_capacity(32);
-    bytes.extend_from_slice(b"kinlink-synth");
+    bytes.extend_from_slice(b"samekey-synth");
     bytes.extend_from_slice(&seed.to_le_bytes());
     bytes.extend_from_slice(&(chunk as u64).to_le_bytes());
     stable_hash(&bytes)

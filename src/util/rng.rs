@@ -1,6 +1,6 @@
 //! A small deterministic pseudo-random generator (SplitMix64).
 //!
-//! kinlink needs random numbers that are identical for a seed on every platform and
+//! samekey needs random numbers that are identical for a seed on every platform and
 //! every crate version (sampling random pairs for u-probabilities, the synthetic data
 //! generator). SplitMix64 (Steele, Lea & Flood 2014, "Fast splittable pseudorandom
 //! number generators") is tiny, fast and good enough for sampling.

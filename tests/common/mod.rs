@@ -5,7 +5,7 @@ use std::process::{Command, Output};
 
 /// Path of the built binary.
 pub fn bin() -> PathBuf {
-    PathBuf::from(env!("CARGO_BIN_EXE_kinlink"))
+    PathBuf::from(env!("CARGO_BIN_EXE_samekey"))
 }
 
 /// Folder of the small invented test data.
@@ -20,7 +20,7 @@ pub fn run(args: &[&str], threads: Option<usize>) -> Output {
     if let Some(t) = threads {
         cmd.env("RAYON_NUM_THREADS", t.to_string());
     }
-    cmd.output().expect("cannot start kinlink")
+    cmd.output().expect("cannot start samekey")
 }
 
 /// stdout and stderr of a run, as text.
@@ -51,7 +51,7 @@ pub fn read_csv(path: &Path) -> Vec<Vec<String>> {
         .collect()
 }
 
-/// `kinlink link` on `dir/spec.toml` into `dir/out`, with extra flags and threads.
+/// `samekey link` on `dir/spec.toml` into `dir/out`, with extra flags and threads.
 pub fn link(
     dir: &std::path::Path,
     out: &str,

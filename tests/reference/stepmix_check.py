@@ -1,11 +1,11 @@
 #!/usr/bin/env python3
-"""Compare kinlink's EM with the stepmix latent class model on the same patterns.
+"""Compare samekey's EM with the stepmix latent class model on the same patterns.
 
 In:  tests/data/em_reference_patterns.csv (pattern counts; level 0 = disagree).
 Out: a table of both fits and their differences; exit status 0 when they agree,
      1 when any difference exceeds the tolerance, 2 when something cannot run.
 
-kinlink's fit comes from `cargo run --example em_fit` (JSON on stdout). stepmix
+samekey's fit comes from `cargo run --example em_fit` (JSON on stdout). stepmix
 (PyPI `stepmix`, two-class categorical measurement model, the same model: latent
 classes with conditionally independent categorical indicators) is fitted on the
 patterns expanded to one row per pair, with the settings of shared/em_reference.py.
@@ -43,7 +43,7 @@ def main(argv: list[str]) -> int:
         print(f"cannot import stepmix/numpy ({e}); run `pip install stepmix numpy`", file=sys.stderr)
         return 2
 
-    # --- kinlink ---------------------------------------------------------
+    # --- samekey ---------------------------------------------------------
     cmd = ["cargo", "run", "--quiet", "--example", "em_fit", "--", path, "--levels-ascending"]
     run = subprocess.run(cmd, cwd=root, capture_output=True, text=True)
     if run.returncode != 0:
@@ -95,18 +95,18 @@ def main(argv: list[str]) -> int:
 
     # --- compare -------------------------------------------------------------
     print(f"stepmix {getattr(stepmix, '__version__', '?')}, numpy {np.__version__}; "
-          f"{n} pairs, {len(pats)} patterns, kinlink iterations {kin['iterations']}")
+          f"{n} pairs, {len(pats)} patterns, samekey iterations {kin['iterations']}")
     worst = abs(kin["lambda"] - sm_lam)
-    print(f"{'lambda':24s} kinlink {kin['lambda']:.8f}  stepmix {sm_lam:.8f}  diff {kin['lambda'] - sm_lam:+.2e}")
+    print(f"{'lambda':24s} samekey {kin['lambda']:.8f}  stepmix {sm_lam:.8f}  diff {kin['lambda'] - sm_lam:+.2e}")
     for k, f in enumerate(fields):
         for name, ours, theirs in (("m", kin["m"][k], sm_m[k]), ("u", kin["u"][k], sm_u[k])):
             for l in range(n_levels[k]):
                 d = ours[l] - float(theirs[l])
                 worst = max(worst, abs(d))
-                print(f"{f + ' ' + name + '[' + str(l) + ']':24s} kinlink {ours[l]:.8f}  "
+                print(f"{f + ' ' + name + '[' + str(l) + ']':24s} samekey {ours[l]:.8f}  "
                       f"stepmix {float(theirs[l]):.8f}  diff {d:+.2e}")
     dll = kin["loglik"] - sm_ll
-    print(f"{'log-likelihood':24s} kinlink {kin['loglik']:.4f}  stepmix {sm_ll:.4f}  diff {dll:+.2e}")
+    print(f"{'log-likelihood':24s} samekey {kin['loglik']:.4f}  stepmix {sm_ll:.4f}  diff {dll:+.2e}")
     print(f"largest probability difference {worst:.2e} (tolerance {TOL_PROB:g}); "
           f"log-likelihood difference {abs(dll):.2e} (tolerance {TOL_LOGLIK:g})")
     if worst > TOL_PROB or abs(dll) > TOL_LOGLIK:

@@ -28,7 +28,7 @@ use super::masks::{is_ascii, with_ascii_masks, CharMasks, MAX_BITS};
 /// Levenshtein distance between `a` and `b` (in characters).
 ///
 /// ```
-/// use kinlink::compare::strings::levenshtein;
+/// use samekey::compare::strings::levenshtein;
 /// assert_eq!(levenshtein("kitten", "sitting"), 3);
 /// ```
 pub fn levenshtein(a: &str, b: &str) -> usize {
@@ -42,7 +42,7 @@ pub fn levenshtein(a: &str, b: &str) -> usize {
 /// the rest of the string cannot bring the distance back within `k`.
 ///
 /// ```
-/// use kinlink::compare::strings::levenshtein_within;
+/// use samekey::compare::strings::levenshtein_within;
 /// assert_eq!(levenshtein_within("kitten", "sitting", 3), Some(3));
 /// assert_eq!(levenshtein_within("kitten", "sitting", 2), None);
 /// ```
@@ -53,7 +53,7 @@ pub fn levenshtein_within(a: &str, b: &str, k: usize) -> Option<usize> {
 /// Optimal string alignment distance between `a` and `b` (in characters).
 ///
 /// ```
-/// use kinlink::compare::strings::osa_distance;
+/// use samekey::compare::strings::osa_distance;
 /// assert_eq!(osa_distance("ab", "ba"), 1);
 /// assert_eq!(osa_distance("CA", "ABC"), 3);
 /// ```

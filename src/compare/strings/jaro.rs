@@ -52,7 +52,7 @@ pub const WINKLER_BOOST_THRESHOLD: f64 = 0.7;
 /// Jaro similarity of `a` and `b`, in `[0, 1]`.
 ///
 /// ```
-/// use kinlink::compare::strings::jaro;
+/// use samekey::compare::strings::jaro;
 /// assert!((jaro("MARTHA", "MARHTA") - 0.944444).abs() < 1e-6);
 /// ```
 pub fn jaro(a: &str, b: &str) -> f64 {
@@ -95,7 +95,7 @@ pub fn jaro(a: &str, b: &str) -> f64 {
 /// 4 characters, boost only when the Jaro similarity exceeds 0.7.
 ///
 /// ```
-/// use kinlink::compare::strings::jaro_winkler;
+/// use samekey::compare::strings::jaro_winkler;
 /// assert!((jaro_winkler("MARTHA", "MARHTA") - 0.961111).abs() < 1e-6);
 /// ```
 pub fn jaro_winkler(a: &str, b: &str) -> f64 {
@@ -254,7 +254,7 @@ fn jaro_general<T: Copy + PartialEq>(a: &[T], b: &[T]) -> f64 {
 /// free functions [`jaro`] and [`jaro_winkler`] with the query as first argument.
 ///
 /// ```
-/// use kinlink::compare::strings::{jaro_winkler, JaroMatcher};
+/// use samekey::compare::strings::{jaro_winkler, JaroMatcher};
 /// let q = JaroMatcher::new("DWAYNE");
 /// for name in ["DUANE", "DWAYNE", "DEWAYNE"] {
 ///     assert_eq!(q.jaro_winkler(name), jaro_winkler("DWAYNE", name));
@@ -430,7 +430,7 @@ fn jaro_winkler_ascii_lanes(
 /// is all ASCII, so that [`JaroMatcher::jaro_winkler_corpus`] does no per-pair checks.
 ///
 /// ```
-/// use kinlink::compare::strings::{jaro_winkler, JaroCorpus, JaroMatcher};
+/// use samekey::compare::strings::{jaro_winkler, JaroCorpus, JaroMatcher};
 /// let names = ["DUANE", "DWAYNE", "DEWAYNE", "MÜLLER"];
 /// let corpus = JaroCorpus::new(names);
 /// let mut scores = vec![0.0; corpus.len()];

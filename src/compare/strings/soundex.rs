@@ -29,7 +29,7 @@ const CODES: &[u8; 26] = b"0123012-02245501262301-202";
 /// contains no ASCII letter.
 ///
 /// ```
-/// use kinlink::compare::strings::soundex;
+/// use samekey::compare::strings::soundex;
 /// assert_eq!(soundex("Robert"), "R163");
 /// assert_eq!(soundex("Tymczak"), "T522");
 /// assert_eq!(soundex("42"), "");
