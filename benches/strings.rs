@@ -12,11 +12,11 @@ use std::hint::black_box;
 use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
+use rphonetic::Encoder;
 use samekey::compare::strings::{
     jaro_winkler, levenshtein, levenshtein_within, osa_distance, soundex, JaroCorpus, JaroMatcher,
 };
 use samekey::util::Rng;
-use rphonetic::Encoder;
 
 const ASCII_SYLLABLES: &[&str] = &[
     "AN", "BER", "CHRI", "DA", "EL", "FIN", "GAR", "HEL", "IN", "JO", "KA", "LEN", "MAR", "NO",

@@ -17,7 +17,7 @@ use crate::classify::{Classifier, Decision, Estimate, WeightHistogram};
 use crate::cluster::{cluster_with, Edge, Guards};
 use crate::compare::{Comparison, Gamma};
 use crate::error::{Error, Result};
-use crate::model::{self, em::PatternCounts, KeyCounts, Model};
+use crate::model::{self, KeyCounts, Model};
 use crate::output::{push_field, write_rejects, Staging};
 use crate::record::RecordTable;
 use crate::sources::{self, SourceReport};
@@ -127,21 +127,6 @@ impl RunSummary {
     }
 }
 
-/// Cut tasks into this many chunks per thread for load balance.
-const CHUNKS_PER_THREAD: usize = 16;
-
-fn chunks(tasks: &[Task]) -> Vec<&[Task]> {
-    let want = rayon::current_num_threads().max(1) * CHUNKS_PER_THREAD;
-    // At most MAX_CHUNK_TASKS per chunk, so that a wave of chunks (pairs text waiting to
-    // be written in order) stays small however many pairs there are. Results are
-    // combined in task order, so the outcome is the same for any chunking.
-    let size = tasks.len().div_ceil(want.max(1)).clamp(1, MAX_CHUNK_TASKS);
-    tasks.chunks(size).collect()
-}
-
-/// Most tasks (blocks or slices of large blocks) in one chunk of parallel work.
-const MAX_CHUNK_TASKS: usize = 4096;
-
 /// Run the whole pipeline and write the outputs.
 pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     let mut t = Timings::default();
@@ -197,7 +182,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     if let Some(target) = opts.target_precision {
         let c = match counts {
             Some(c) => c,
-            None => count_patterns(
+            None => model::train::count_patterns(
                 spec,
                 &table,
                 &blocking,
@@ -477,108 +462,11 @@ fn fit_model(
     t: &mut Timings,
 ) -> Result<(Model, Vec<KeyCounts>)> {
     let clock = Instant::now();
-    let counts = count_patterns(spec, table, blocking, comparison, tasks, progress)?;
+    let counts = model::train::count_patterns(spec, table, blocking, comparison, tasks, progress)?;
     let clock = t.record("compare (count vectors)", clock);
-    let (u, u_pairs) = model::estimate_u(
-        table,
-        comparison,
-        spec.model.u_sample_pairs,
-        spec.model.seed,
-    );
-    let model = model::fit(spec, comparison, table.len() as u64, &counts, u, u_pairs)?;
+    let model = model::train::fit_counts(spec, table, comparison, &counts)?;
     t.record("fit (EM)", clock);
     Ok((model, counts))
-}
-
-/// Pass 1: comparison vector counts per blocking key.
-fn count_patterns(
-    spec: &Spec,
-    table: &RecordTable,
-    blocking: &Blocking,
-    comparison: &Comparison,
-    tasks: &[Task],
-    progress: &Progress,
-) -> Result<Vec<KeyCounts>> {
-    let n_levels = comparison.n_levels();
-    let n_keys = blocking.keys.len();
-    let k = comparison.len();
-    // Very many pairs: count a deterministic sample of the tasks (by hash), enough for
-    // EM on pattern counts; scoring still sees every pair.
-    let raw_total: u64 = blocking.keys.iter().map(|k| k.raw_pairs()).sum();
-    let keep_one_in = (raw_total / COUNT_SAMPLE_PAIRS).max(1);
-    type Pair = (Vec<PatternCounts>, Vec<PatternCounts>);
-    let fresh = || -> Pair {
-        (
-            (0..n_keys)
-                .map(|_| PatternCounts::new(n_levels.clone()))
-                .collect(),
-            (0..n_keys)
-                .map(|_| PatternCounts::new(n_levels.clone()))
-                .collect(),
-        )
-    };
-    let parts: Vec<Result<Pair>> = chunks(tasks)
-        .into_par_iter()
-        .map(|chunk| {
-            let (mut new_counts, mut all_counts) = fresh();
-            let mut scratch = comparison.scratch();
-            for task in chunk {
-                progress.inc(1);
-                if keep_one_in > 1 && task_hash(task) % keep_one_in != 0 {
-                    continue;
-                }
-                let (cn, ca) = (&mut new_counts[task.key], &mut all_counts[task.key]);
-                let mut err = Ok(());
-                blocking.for_each_pair_all(task, |a, b, new| {
-                    let g = comparison.gamma(table, a, b, &mut scratch);
-                    let r =
-                        ca.add(&g[..k], 1)
-                            .and_then(|_| if new { cn.add(&g[..k], 1) } else { Ok(()) });
-                    if let Err(e) = r {
-                        err = Err(e);
-                    }
-                });
-                err?;
-            }
-            Ok((new_counts, all_counts))
-        })
-        .collect();
-    let (mut total_new, mut total_all) = fresh();
-    for part in parts {
-        let (n, a) = part?;
-        for (t, p) in total_new.iter_mut().zip(n) {
-            t.merge(p)?;
-        }
-        for (t, p) in total_all.iter_mut().zip(a) {
-            t.merge(p)?;
-        }
-    }
-    Ok(spec
-        .blocks
-        .iter()
-        .zip(total_new.into_iter().zip(total_all))
-        .map(|(b, (counts, all_counts))| {
-            let key_attrs = crate::block::key_attrs(b);
-            KeyCounts {
-                name: b.name.clone(),
-                excluded: comparison
-                    .comparators
-                    .iter()
-                    .map(|c| key_attrs.contains(&c.attr))
-                    .collect(),
-                counts,
-                all_counts,
-                scale: keep_one_in as f64,
-            }
-        })
-        .collect())
-}
-
-/// About this many pairs are compared for the EM counts; above it, tasks are sampled.
-pub const COUNT_SAMPLE_PAIRS: u64 = 4_000_000;
-
-fn task_hash(task: &Task) -> u64 {
-    crate::util::mix64((task.key as u64) << 48 ^ (task.block as u64) << 16 ^ task.start as u64)
 }
 
 /// A pair kept after scoring (match or review).
@@ -637,7 +525,7 @@ fn score(
         per_key: vec![0; blocking.keys.len()],
         decisions: [0; 3],
     };
-    let all_chunks = chunks(tasks);
+    let all_chunks = crate::util::chunks(tasks);
     // Waves bound the memory held by CSV text waiting to be written in order.
     let wave = rayon::current_num_threads().max(1) * 4;
     for group in all_chunks.chunks(wave) {
@@ -851,223 +739,6 @@ fn write_review(
         w.row(&row)?;
     }
     w.finish()
-}
-
-/// What `train` did: the model and the work behind it.
-#[derive(Debug, Clone)]
-pub struct TrainSummary {
-    /// The fitted model.
-    pub model: Model,
-    /// Per source: rows read, accepted, rejected.
-    pub sources: Vec<SourceReport>,
-    /// Wall time per stage.
-    pub timings: Timings,
-}
-
-/// Fit a model on the spec's sources without scoring or writing outputs.
-pub fn train(spec: &Spec) -> Result<TrainSummary> {
-    let mut t = Timings::default();
-    let clock = Instant::now();
-    let loaded = sources::load(spec)?;
-    let table = loaded.table;
-    if table.len() < 2 {
-        return Err(Error::Usage(format!(
-            "only {} usable record(s) were read; fitting needs at least two",
-            table.len()
-        )));
-    }
-    let clock = t.record("read + standardize", clock);
-    let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
-    let comparison = Comparison::new(&spec.compares, &table);
-    let tasks = blocking.tasks();
-    t.record("block", clock);
-    let (model, _) = fit_model(
-        spec,
-        &table,
-        &blocking,
-        &comparison,
-        &tasks,
-        &Progress::hidden(),
-        &mut t,
-    )?;
-    Ok(TrainSummary {
-        model,
-        sources: loaded.reports,
-        timings: t,
-    })
-}
-
-/// Fit the "oracle" model from true labels, for comparison with the unsupervised fit:
-/// m from the level frequencies among the candidate pairs that are true matches
-/// (smoothed like EM's m), u from the same random pairs as the unsupervised fit, and λ
-/// from the true matches among the candidates. `entity` gives each record's entity, in
-/// table order; see [`entities_from_truth`].
-pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<TrainSummary> {
-    use std::sync::atomic::{AtomicU64, Ordering};
-    let mut t = Timings::default();
-    let clock = Instant::now();
-    let loaded = sources::load(spec)?;
-    let table = loaded.table;
-    let entity = entities_from_truth(&table, truth);
-    let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
-    let comparison = Comparison::new(&spec.compares, &table);
-    let tasks = blocking.tasks();
-    let clock = t.record("read + block", clock);
-    let n_levels = comparison.n_levels();
-    let n_keys = blocking.keys.len();
-    // Level counts per key, per class (0 = true match, 1 = non-match), per attribute.
-    type Counts = Vec<[Vec<Vec<u64>>; 2]>;
-    let empty = || -> Counts {
-        (0..n_keys)
-            .map(|_| {
-                let rows = || n_levels.iter().map(|&l| vec![0u64; l]).collect::<Vec<_>>();
-                [rows(), rows()]
-            })
-            .collect()
-    };
-    let pair_counts: Vec<AtomicU64> = (0..2 * n_keys).map(|_| AtomicU64::new(0)).collect();
-    let parts: Vec<Counts> = chunks(&tasks)
-        .into_par_iter()
-        .map(|chunk| {
-            let mut counts = empty();
-            let mut scratch = comparison.scratch();
-            for task in chunk {
-                let mut seen = [0u64; 2];
-                blocking.for_each_pair(task, |a, b| {
-                    let class = usize::from(entity[a as usize] != entity[b as usize]);
-                    seen[class] += 1;
-                    let g = comparison.gamma(&table, a, b, &mut scratch);
-                    model::count_levels(&mut counts[task.key][class], &g);
-                });
-                pair_counts[2 * task.key].fetch_add(seen[0], Ordering::Relaxed);
-                pair_counts[2 * task.key + 1].fetch_add(seen[1], Ordering::Relaxed);
-            }
-            counts
-        })
-        .collect();
-    let mut by_key = empty();
-    for part in parts {
-        for (t, p) in by_key.iter_mut().zip(part) {
-            for (tc, pc) in t.iter_mut().zip(&p) {
-                model::add_level_counts(tc, pc);
-            }
-        }
-    }
-    let smooth = |row: &[u64]| -> Vec<f64> {
-        let total: u64 = row.iter().sum();
-        let denom = total as f64 + model::M_SMOOTHING * row.len() as f64;
-        row.iter()
-            .map(|&x| (x as f64 + model::M_SMOOTHING) / denom)
-            .collect()
-    };
-    let (u, u_pairs) = model::estimate_u(
-        &table,
-        &comparison,
-        spec.model.u_sample_pairs,
-        spec.model.seed,
-    );
-    let mut blocks = Vec::new();
-    let mut counts: Vec<Vec<u64>> = n_levels.iter().map(|&l| vec![0; l]).collect();
-    let (mut cand, mut matches) = (0u64, 0u64);
-    for (b, (kb, spec_b)) in blocking.keys.iter().zip(&spec.blocks).enumerate() {
-        let m_pairs = pair_counts[2 * b].load(Ordering::Relaxed);
-        let p = m_pairs + pair_counts[2 * b + 1].load(Ordering::Relaxed);
-        cand += p;
-        matches += m_pairs;
-        for (row, krow) in counts.iter_mut().zip(&by_key[b][0]) {
-            for (x, y) in row.iter_mut().zip(krow) {
-                *x += y;
-            }
-        }
-        let key_attrs = crate::block::key_attrs(spec_b);
-        let excluded: Vec<bool> = comparison
-            .comparators
-            .iter()
-            .map(|c| key_attrs.contains(&c.attr))
-            .collect();
-        let rows = |class: usize| -> Vec<Vec<f64>> {
-            by_key[b][class]
-                .iter()
-                .zip(&excluded)
-                .map(|(row, e)| if *e { Vec::new() } else { smooth(row) })
-                .collect()
-        };
-        let lambda = if p == 0 {
-            0.0
-        } else {
-            m_pairs as f64 / p as f64
-        };
-        blocks.push(model::BlockFit {
-            name: kb.name.clone(),
-            pairs: p,
-            patterns: 0,
-            lambda,
-            excluded: comparison
-                .comparators
-                .iter()
-                .zip(&excluded)
-                .filter(|(_, e)| **e)
-                .map(|(c, _)| c.attr.name().to_string())
-                .collect(),
-            iterations: 0,
-            converged: true,
-            loglik_trace: Vec::new(),
-            local: p >= model::MIN_LOCAL_PAIRS && lambda > 1e-6 && lambda < 1.0 - 1e-6,
-            m: rows(0),
-            u: rows(1),
-        });
-    }
-    let n = table.len() as u64;
-    let all = (n * n.saturating_sub(1) / 2).max(1) as f64;
-    let m: Vec<Vec<f64>> = counts
-        .iter()
-        .map(|row| {
-            let total: u64 = row.iter().sum();
-            let denom = total as f64 + model::M_SMOOTHING * row.len() as f64;
-            row.iter()
-                .map(|&x| (x as f64 + model::M_SMOOTHING) / denom)
-                .collect()
-        })
-        .collect();
-    let attribute = model::attr_models(spec, &comparison, &m, &u);
-    let warnings = model::level_warnings(&attribute);
-    let fitted = Model {
-        format: "samekey-model".into(),
-        version: model::MODEL_VERSION,
-        spec_fingerprint: spec.model_fingerprint(),
-        spec_layout: spec.model_layout(),
-        lambda: (matches as f64 / all).clamp(1e-12, 0.5),
-        records: n,
-        candidate_pairs: cand,
-        expected_matches: matches as f64,
-        u_sample_pairs: u_pairs,
-        attribute,
-        block: blocks,
-        warnings,
-    };
-    t.record("oracle fit", clock);
-    Ok(TrainSummary {
-        model: fitted,
-        sources: loaded.reports,
-        timings: t,
-    })
-}
-
-/// Each record's entity number from a truth file; records missing from the truth get
-/// an entity of their own.
-pub fn entities_from_truth(table: &RecordTable, truth: &crate::evaluate::Grouping) -> Vec<u32> {
-    let mut next = truth.n_groups() as u32;
-    (0..table.len())
-        .map(|r| {
-            truth
-                .position(table.source_name(r), &table.id[r])
-                .and_then(|pos| truth.group_index(pos))
-                .unwrap_or_else(|| {
-                    next += 1;
-                    next
-                })
-        })
-        .collect()
 }
 
 /// One attribute's part in an explanation.

@@ -4,7 +4,6 @@ use std::path::PathBuf;
 
 use samekey::block::{self, Blocking};
 use samekey::evaluate;
-use samekey::pipeline;
 use samekey::sources;
 use samekey::spec::Spec;
 
@@ -32,7 +31,7 @@ pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
     let blocking = Blocking::build(table, &spec.blocks, u64::MAX)?;
     let entity: Option<Vec<u32>> = match &args.truth {
         None => None,
-        Some(p) => Some(pipeline::entities_from_truth(
+        Some(p) => Some(samekey::evaluate::entities_from_truth(
             table,
             &evaluate::read_truth(p)?,
         )),

@@ -2,7 +2,7 @@
 
 use std::path::PathBuf;
 
-use samekey::pipeline;
+use samekey::model::train;
 use samekey::spec::Spec;
 
 use super::Global;
@@ -26,8 +26,8 @@ pub struct Args {
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
     let t = match &args.oracle_truth {
-        None => pipeline::train(&spec)?,
-        Some(p) => pipeline::train_oracle(&spec, &samekey::evaluate::read_truth(p)?)?,
+        None => train::train(&spec)?,
+        Some(p) => train::train_oracle(&spec, &samekey::evaluate::read_truth(p)?)?,
     };
     t.model.save(&args.out)?;
     if !global.quiet {

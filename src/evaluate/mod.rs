@@ -642,6 +642,23 @@ fn read_grouping(path: &Path, group_col: &str) -> Result<Grouping> {
 
 /// Read a truth file (`source,source_id,entity_id`). Errors name the file, the line
 /// and what was expected: missing columns (listing the header found), empty values,
+/// Each record's entity number from a truth file; records missing from the truth get
+/// an entity of their own.
+pub fn entities_from_truth(table: &crate::record::RecordTable, truth: &Grouping) -> Vec<u32> {
+    let mut next = truth.n_groups() as u32;
+    (0..table.len())
+        .map(|r| {
+            truth
+                .position(table.source_name(r), &table.id[r])
+                .and_then(|pos| truth.group_index(pos))
+                .unwrap_or_else(|| {
+                    next += 1;
+                    next
+                })
+        })
+        .collect()
+}
+
 /// repeated records, malformed CSV.
 pub fn read_truth(path: impl AsRef<Path>) -> Result<Grouping> {
     read_grouping(path.as_ref(), "entity_id")

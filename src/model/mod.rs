@@ -29,6 +29,7 @@ use crate::spec::Spec;
 use crate::util::Rng;
 
 pub mod em;
+pub mod train;
 
 /// Version of the model file format written by this build.
 pub const MODEL_VERSION: u32 = 1;
