@@ -97,7 +97,7 @@ def samekey_info(path):
     info = {"stages": parse_stage_lines(text, "Timings")}
     m = re.search(r"candidate pairs: (\d+)", text)
     info["candidates"] = int(m.group(1)) if m else None
-    m = re.search(r"match (\d+)\s+review (\d+)\s+non-match (\d+)", text)
+    m = re.search(r"match (\d+)\s+review (\d+)\s+non_match (\d+)", text)
     info["decisions"] = tuple(int(x) for x in m.groups()) if m else None
     # CPU lines of --timings: the whole run and standardizing values.
     run = re.search(r"^  run\s+([0-9.]+) s$", text, re.M)

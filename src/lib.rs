@@ -5,16 +5,16 @@
 //! The pipeline is one module per stage:
 //!
 //! ```text
-//! sources -> standardize -> block -> compare -> model (EM) -> classify -> cluster -> keys -> output
+//! sources -> standardize -> block -> compare -> model (EM) -> score + decide -> cluster -> keys -> output
 //! ```
 //!
 //! [`pipeline`] chains the stages; the `samekey` binary is a thin layer of argument
 //! parsing on top of it (see `src/commands/`).
 
 pub mod block;
-pub mod classify;
 pub mod cluster;
 pub mod compare;
+pub mod decide;
 pub mod error;
 pub mod evaluate;
 pub mod keys;
@@ -22,6 +22,7 @@ pub mod model;
 pub mod output;
 pub mod pipeline;
 pub mod record;
+pub mod score;
 pub mod sources;
 pub mod spec;
 pub mod standardize;

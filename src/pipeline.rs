@@ -1,7 +1,7 @@
 //! Pipeline: a spec in, a finished run (outputs on disk and a [`RunSummary`]) out.
 //!
 //! Stages: sources (read + standardize) → block → compare → model (fit by EM, or load)
-//! → classify → cluster → keys → output. Candidate pairs are never stored as a whole:
+//! → decide → cluster → keys → output. Candidate pairs are never stored as a whole:
 //! a first pass over the blocks only counts comparison vectors per blocking key (for
 //! EM), a second pass scores every pair and keeps the matched and review pairs. Both
 //! passes run block tasks in parallel and combine per-chunk results in a fixed order,
@@ -13,13 +13,14 @@ use std::time::{Duration, Instant};
 use rayon::prelude::*;
 
 use crate::block::{Blocking, Task};
-use crate::classify::{Classifier, Decision, Estimate, WeightHistogram};
 use crate::cluster::{cluster_with, Edge, Guards};
 use crate::compare::{Comparison, Gamma};
+use crate::decide::{Decider, Decision, Estimate, Scored, WeightHistogram};
 use crate::error::{Error, Result};
 use crate::model::{self, KeyCounts, Model};
 use crate::output::{push_field, write_rejects, Staging};
 use crate::record::RecordTable;
+use crate::score::PairScorer;
 use crate::sources::{self, SourceReport};
 use crate::spec::Spec;
 use crate::standardize::StdStats;
@@ -102,8 +103,8 @@ pub struct RunSummary {
     pub model: Model,
     /// True when the model was fitted in this run (false: loaded with `--model`).
     pub fitted: bool,
-    /// The classifier's weight thresholds.
-    pub classifier: Classifier,
+    /// The decision thresholds (as log2 odds).
+    pub decider: Decider,
     /// The model's own estimate of precision and recall at the match threshold.
     pub estimate: Estimate,
     /// Pairs per decision: match, review, non-match.
@@ -177,8 +178,11 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
             (m, true)
         }
     };
-    let mut classifier = Classifier::new(spec.classify.thresholds);
-    let scorer = model::Scorer::new(&model, &comparison, &table, &spec.blocks);
+    let mut scorer = PairScorer::new(
+        model::Scorer::new(&model, &comparison, &table, &spec.blocks),
+        Decider::new(spec.decide),
+        comparison.len(),
+    );
     if let Some(target) = opts.target_precision {
         let c = match counts {
             Some(c) => c,
@@ -191,7 +195,8 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
                 &Progress::hidden(),
             )?,
         };
-        classifier = threshold_for_target(&classifier, &scorer, &c, target)?;
+        let decider = threshold_for_target(scorer.decider(), scorer.model_scorer(), &c, target)?;
+        scorer.set_decider(decider);
         clock = t.record("choose threshold", clock);
     }
 
@@ -202,7 +207,6 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         &blocking,
         &comparison,
         &scorer,
-        &classifier,
         &tasks,
         opts.pairs,
         &mut staging,
@@ -217,11 +221,11 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         let edges: Vec<Edge> = scored
             .linked
             .iter()
-            .filter(|p| p.decision == Decision::Match)
+            .filter(|p| p.decision() == Decision::Match)
             .map(|p| Edge {
                 a: p.a,
                 b: p.b,
-                weight: p.weight,
+                weight: p.scored.evidence,
             })
             .collect();
         let c = cluster_and_write(spec, &table, &edges, &mut staging)?;
@@ -229,6 +233,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         Some(c)
     };
     write_review(&mut staging, &table, &comparison, &scorer, &scored.linked)?;
+    let decider = *scorer.decider();
     let mut w = staging.csv("rejects.csv")?;
     write_rejects(&mut w, &loaded.rejects)?;
     w.finish()?;
@@ -256,9 +261,9 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         keys: keys_summary,
         model,
         fitted,
-        classifier,
+        decider,
         decisions: scored.decisions,
-        estimate: scored.histogram.estimate(classifier.upper),
+        estimate: scored.histogram.estimate(decider.upper),
         customers: clusters.as_ref().map_or(0, |c| c.count()),
         refused_merges: clusters.as_ref().map_or(0, |c| c.refused.len()),
         shard: opts.shard,
@@ -308,7 +313,7 @@ fn cluster_and_write(
         "id_a",
         "source_b",
         "id_b",
-        "match_weight",
+        "evidence_bits",
         "reason",
     ])?;
     let unique: Vec<String> = spec
@@ -324,7 +329,7 @@ fn cluster_and_write(
             table.id[a].as_str(),
             table.source_name(b),
             table.id[b].as_str(),
-            &e.weight.to_string(),
+            &format!("{:.4}", e.weight),
             &why.reason(&unique),
         ])?;
     }
@@ -385,7 +390,7 @@ pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path) -> Result<MergeSummary
             col("source_b")?,
             col("id_b")?,
         ];
-        let (wcol, dcol) = (col("match_weight")?, col("decision")?);
+        let (wcol, dcol) = (col("evidence_bits")?, col("decision")?);
         for row in rdr.records() {
             let row = row.map_err(|e| Error::Csv {
                 path: path.clone(),
@@ -415,7 +420,7 @@ pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path) -> Result<MergeSummary
             let weight: f64 = row.get(wcol).and_then(|w| w.parse().ok()).ok_or_else(|| {
                 Error::input(
                     &path,
-                    format!("line {line}: `match_weight` is not a number"),
+                    format!("line {line}: `evidence_bits` is not a number"),
                 )
             })?;
             edges.push(Edge { a, b, weight });
@@ -475,10 +480,14 @@ struct Linked {
     a: u32,
     b: u32,
     key: usize,
-    weight: f64,
-    probability: f64,
-    decision: Decision,
+    scored: Scored,
     gamma: Gamma,
+}
+
+impl Linked {
+    fn decision(&self) -> Decision {
+        self.scored.decision
+    }
 }
 
 /// One chunk's share of pass 2.
@@ -490,7 +499,7 @@ struct ChunkScore {
     decisions: [u64; 3],
 }
 
-struct Scored {
+struct Scored2 {
     histogram: WeightHistogram,
     linked: Vec<Linked>,
     per_key: Vec<u64>,
@@ -503,23 +512,16 @@ fn score(
     table: &RecordTable,
     blocking: &Blocking,
     comparison: &Comparison,
-    scorer: &model::Scorer,
-    classifier: &Classifier,
+    scorer: &PairScorer,
     tasks: &[Task],
     which: PairsOutput,
     staging: &mut Staging,
     progress: &Progress,
-) -> Result<Scored> {
+) -> Result<Scored2> {
     let mut out = staging.csv("pairs.csv")?;
-    let mut header =
-        String::from("source_a,id_a,source_b,id_b,match_weight,match_probability,decision");
-    for c in &comparison.comparators {
-        header.push_str(&format!(",{0},{0}_weight", c.attr.name()));
-    }
-    header.push('\n');
-    out.raw(header.as_bytes())?;
+    out.row(&crate::output::pairs_header(comparison))?;
 
-    let mut result = Scored {
+    let mut result = Scored2 {
         histogram: WeightHistogram::default(),
         linked: Vec::new(),
         per_key: vec![0; blocking.keys.len()],
@@ -542,27 +544,20 @@ fn score(
                     blocking.for_each_pair(task, |a, b| {
                         per_key[task.key] += 1;
                         let g = comparison.gamma(table, a, b, &mut scratch);
-                        let key = Some(task.key);
-                        let w = scorer.weight(key, &g, a);
-                        let prior = scorer.prior(key);
-                        let score = classifier.score(w, prior);
-                        let p = Classifier::probability(w, prior);
-                        let d = classifier.decide(score);
-                        histogram.add(score, p, 1);
-                        decisions[d as usize] += 1;
+                        let s = scorer.score(Some(task.key), &g, a);
+                        histogram.add(s.log2_odds(), s.probability, 1);
+                        decisions[s.decision as usize] += 1;
                         let pair = Linked {
                             a,
                             b,
                             key: task.key,
-                            weight: w,
-                            probability: p,
-                            decision: d,
+                            scored: s,
                             gamma: g,
                         };
-                        if which == PairsOutput::All || d != Decision::NonMatch {
+                        if which == PairsOutput::All || s.decision != Decision::NonMatch {
                             pair_line(&mut text, table, comparison, scorer, &pair);
                         }
-                        if d != Decision::NonMatch {
+                        if s.decision != Decision::NonMatch {
                             linked.push(pair);
                         }
                     });
@@ -604,7 +599,7 @@ fn pair_line(
     text: &mut String,
     table: &RecordTable,
     comparison: &Comparison,
-    scorer: &model::Scorer,
+    scorer: &PairScorer,
     p: &Linked,
 ) {
     use std::fmt::Write;
@@ -616,34 +611,32 @@ fn pair_line(
     push_field(text, table.source_name(b));
     text.push(',');
     push_field(text, &table.id[b]);
+    let s = &p.scored;
     let _ = write!(
         text,
-        ",{},{:.6},{}",
-        p.weight,
-        p.probability,
-        p.decision.name()
+        ",{:.4},{:.4},{:.6},{}",
+        s.evidence,
+        s.prior,
+        s.probability,
+        s.decision.name()
     );
     for (k, c) in comparison.comparators.iter().enumerate() {
         text.push(',');
         push_field(text, c.level_name(p.gamma[k]));
-        let _ = write!(
-            text,
-            ",{:.4}",
-            scorer.contribution(Some(p.key), k, p.gamma[k], p.a)
-        );
+        let _ = write!(text, ",{:.4}", scorer.bits(Some(p.key), k, p.gamma[k], p.a));
     }
     text.push('\n');
 }
 
-/// The classifier with its upper threshold moved to where the model's estimated
+/// The decider with its upper threshold moved to where the model's estimated
 /// precision reaches `target`, estimated from the comparison vector counts of pass 1
 /// (value-frequency adjustments left out).
 fn threshold_for_target(
-    classifier: &Classifier,
+    decider: &Decider,
     scorer: &model::Scorer,
     counts: &[KeyCounts],
     target: f64,
-) -> Result<Classifier> {
+) -> Result<Decider> {
     let mut h = WeightHistogram::default();
     for (k, key) in counts.iter().enumerate() {
         let prior = scorer.prior(Some(k));
@@ -654,11 +647,7 @@ fn threshold_for_target(
             let w: f64 = (0..codes.len())
                 .map(|a| scorer.contribution_plain(Some(k), a, g[a]))
                 .sum();
-            h.add(
-                classifier.score(w, prior),
-                Classifier::probability(w, prior),
-                n,
-            );
+            h.add(decider.score(w, prior), Decider::probability(w, prior), n);
         }
     }
     let Some(upper) = h.threshold_for_precision(target) else {
@@ -669,70 +658,50 @@ fn threshold_for_target(
             best.precision
         )));
     };
-    Ok(Classifier {
+    Ok(Decider {
         upper,
-        lower: classifier.lower.min(upper),
-        ..*classifier
+        lower: decider.lower.min(upper),
     })
 }
 
-/// `review.csv`: the review pairs with the values compared, strongest first.
+/// `review.csv`: the review pairs with the values compared, most probable first.
 fn write_review(
     staging: &mut Staging,
     table: &RecordTable,
     comparison: &Comparison,
-    scorer: &model::Scorer,
+    scorer: &PairScorer,
     linked: &[Linked],
 ) -> Result<()> {
     let mut w = staging.csv("review.csv")?;
-    let mut header: Vec<String> = [
-        "source_a",
-        "id_a",
-        "source_b",
-        "id_b",
-        "match_weight",
-        "match_probability",
-        "decision",
-    ]
-    .iter()
-    .map(|s| s.to_string())
-    .collect();
-    for c in &comparison.comparators {
-        let n = c.attr.name();
-        header.extend([
-            n.to_string(),
-            format!("{n}_weight"),
-            format!("{n}_a"),
-            format!("{n}_b"),
-        ]);
-    }
-    w.row(&header)?;
+    w.row(&crate::output::review_header(comparison))?;
     let mut review: Vec<&Linked> = linked
         .iter()
-        .filter(|p| p.decision == Decision::Review)
+        .filter(|p| p.decision() == Decision::Review)
         .collect();
     review.sort_by(|x, y| {
-        y.weight
-            .total_cmp(&x.weight)
+        y.scored
+            .log2_odds()
+            .total_cmp(&x.scored.log2_odds())
             .then(x.a.cmp(&y.a))
             .then(x.b.cmp(&y.b))
     });
     for p in review {
         let (a, b) = (p.a as usize, p.b as usize);
+        let s = &p.scored;
         let mut row: Vec<String> = vec![
             table.source_name(a).to_string(),
             table.id[a].clone(),
             table.source_name(b).to_string(),
             table.id[b].clone(),
-            format!("{:.4}", p.weight),
-            format!("{:.6}", p.probability),
-            p.decision.name().to_string(),
+            format!("{:.4}", s.evidence),
+            format!("{:.4}", s.prior),
+            format!("{:.6}", s.probability),
+            s.decision.name().to_string(),
         ];
         for (k, c) in comparison.comparators.iter().enumerate() {
             let code = p.gamma[k];
-            let wk = scorer.contribution(Some(p.key), k, code, p.a);
             row.push(c.level_name(code).to_string());
-            row.push(format!("{wk:.4}"));
+            row.push(format!("{:.4}", scorer.bits(Some(p.key), k, code, p.a)));
             row.push(table.get(a, c.attr).unwrap_or("").to_string());
             row.push(table.get(b, c.attr).unwrap_or("").to_string());
         }
@@ -752,8 +721,8 @@ pub struct ExplainedAttr {
     pub value_b: Option<String>,
     /// Level reached (`missing` when a side has no value).
     pub level: String,
-    /// Weight added (bits).
-    pub weight: f64,
+    /// Bits of evidence added.
+    pub bits: f64,
 }
 
 /// Why two records get the decision they get.
@@ -761,9 +730,11 @@ pub struct ExplainedAttr {
 pub struct Explanation {
     /// Per compared attribute.
     pub attrs: Vec<ExplainedAttr>,
-    /// Total match weight.
-    pub weight: f64,
-    /// Match probability.
+    /// Evidence: the sum of the attributes' bits.
+    pub evidence: f64,
+    /// Prior: log2 prior odds of the model that scored the pair.
+    pub prior: f64,
+    /// Probability from prior and evidence.
     pub probability: f64,
     /// The decision at the spec's thresholds.
     pub decision: Decision,
@@ -800,8 +771,11 @@ pub fn explain(
     let (ra, rb) = (find(a)?, find(b)?);
     let blocking = Blocking::build(&table, &spec.blocks, u64::MAX)?;
     let comparison = Comparison::new(&spec.compares, &table);
-    let scorer = model::Scorer::new(model, &comparison, &table, &spec.blocks);
-    let classifier = Classifier::new(spec.classify.thresholds);
+    let scorer = PairScorer::new(
+        model::Scorer::new(model, &comparison, &table, &spec.blocks),
+        Decider::new(spec.decide),
+        comparison.len(),
+    );
     let g = comparison.gamma(&table, ra, rb, &mut comparison.scratch());
     // The pair is scored as the first blocking key that produces it would score it.
     let key = blocking.keys.iter().position(|kb| {
@@ -817,11 +791,10 @@ pub fn explain(
             value_a: table.get(ra as usize, c.attr).map(String::from),
             value_b: table.get(rb as usize, c.attr).map(String::from),
             level: c.level_name(g[k]).to_string(),
-            weight: scorer.contribution(key, k, g[k], ra),
+            bits: scorer.bits(key, k, g[k], ra),
         })
         .collect();
-    let weight = scorer.weight(key, &g, ra);
-    let prior = scorer.prior(key);
+    let scored = scorer.score(key, &g, ra);
     let blocked_by = blocking
         .keys
         .iter()
@@ -833,9 +806,10 @@ pub fn explain(
         .collect();
     Ok(Explanation {
         attrs,
-        weight,
-        probability: Classifier::probability(weight, prior),
-        decision: classifier.decide(classifier.score(weight, prior)),
+        evidence: scored.evidence,
+        prior: scored.prior,
+        probability: scored.probability,
+        decision: scored.decision,
         blocked_by,
     })
 }

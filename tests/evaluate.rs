@@ -26,7 +26,7 @@ fn write_inputs(dir: &Path) {
     .unwrap();
     std::fs::write(
         dir.join("pairs.csv"),
-        "source_a,id_a,source_b,id_b,match_weight\ncrm,1,crm,2,10\ncrm,1,web,1,3\nweb,2,shop,3,8\nweb,2,shop,4,-2\n",
+        "source_a,id_a,source_b,id_b,evidence_bits\ncrm,1,crm,2,10\ncrm,1,web,1,3\nweb,2,shop,3,8\nweb,2,shop,4,-2\n",
     )
     .unwrap();
 }

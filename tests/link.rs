@@ -16,25 +16,32 @@ fn link_writes_the_output_contract() {
     assert_eq!(cw.len(), 21, "one row per record plus header");
     let pairs = read_csv(&out.join("pairs.csv"));
     assert_eq!(
-        pairs[0][..7],
+        pairs[0][..8],
         [
             "source_a",
             "id_a",
             "source_b",
             "id_b",
-            "match_weight",
-            "match_probability",
+            "evidence_bits",
+            "prior_bits",
+            "probability",
             "decision"
         ]
     );
-    assert!(pairs[0].contains(&"family_name".to_string()));
+    assert!(pairs[0].contains(&"family_name_level".to_string()));
+    assert!(pairs.len() > 1);
     for row in &pairs[1..] {
-        assert!(
-            ["match", "review", "non_match"].contains(&row[6].as_str()),
-            "{row:?}"
-        );
-        let p: f64 = row[5].parse().unwrap();
-        assert!((0.0..=1.0).contains(&p));
+        check_scored_row(&pairs[0], row, 2);
+    }
+    let review = read_csv(&out.join("review.csv"));
+    assert_eq!(review[0][..8], pairs[0][..8]);
+    for row in &review[1..] {
+        check_scored_row(&review[0], row, 4);
+        assert_eq!(row[7], "review");
+    }
+    // Every key has our own form, never that of a source id.
+    for row in &cw[1..] {
+        assert!(is_key_form(&row[2]), "{row:?}");
     }
     assert_eq!(
         read_csv(&out.join("rejects.csv"))[0],
@@ -42,6 +49,44 @@ fn link_writes_the_output_contract() {
     );
     assert!(read_csv(&out.join("review.csv"))[0].len() > 7);
     assert!(out.join("model.toml").exists());
+}
+
+/// `SK-XXXX-XXXX-XXXX` with Crockford base-32 characters (the README's key form).
+fn is_key_form(k: &str) -> bool {
+    let parts: Vec<&str> = k.split('-').collect();
+    parts.len() == 4
+        && parts[0] == "SK"
+        && parts[1..].iter().all(|p| {
+            p.len() == 4
+                && p.chars()
+                    .all(|c| c.is_ascii_digit() || (c.is_ascii_uppercase() && !"ILOU".contains(c)))
+        })
+}
+
+/// A row of `pairs.csv` or `review.csv` (`per_attr` columns per attribute): the
+/// evidence is the sum of the attributes' bits shown, the probability follows from the
+/// prior and evidence shown, and the decision is one of the three names.
+fn check_scored_row(header: &[String], row: &[String], per_attr: usize) {
+    assert_eq!(header.len(), row.len());
+    let num = |i: usize| -> f64 { row[i].parse().unwrap_or_else(|_| panic!("{row:?}")) };
+    let (evidence, prior, p) = (num(4), num(5), num(6));
+    assert!(
+        ["match", "review", "non_match"].contains(&row[7].as_str()),
+        "{row:?}"
+    );
+    let mut sum = 0.0;
+    for i in (8..row.len()).step_by(per_attr) {
+        assert!(header[i].ends_with("_level"), "{header:?}");
+        assert!(header[i + 1].ends_with("_bits"), "{header:?}");
+        sum += num(i + 1);
+    }
+    // Four decimals shown: the sum of the shown bits is the shown evidence.
+    assert!(
+        (sum - evidence).abs() < 1e-6,
+        "{row:?}: {sum} vs {evidence}"
+    );
+    let want = 1.0 / (1.0 + (-(prior + evidence)).exp2());
+    assert!((want - p).abs() < 1e-6, "{row:?}: {want} vs {p}");
 }
 
 fn crosswalk_map(path: &std::path::Path) -> HashMap<(String, String), String> {
@@ -192,7 +237,7 @@ fn sharded_runs_merge_into_the_unsharded_crosswalk() {
 }
 
 #[test]
-fn explain_shows_levels_values_and_weights() {
+fn explain_shows_levels_values_and_bits() {
     let dir = mini_copy();
     let d = dir.path();
     let spec = d.join("spec.toml").to_str().unwrap().to_string();
@@ -214,7 +259,7 @@ fn explain_shows_levels_values_and_weights() {
         "{out}"
     );
     assert!(
-        out.contains("total weight") && out.contains("postcode, email"),
+        out.contains("evidence") && out.contains("postcode, email"),
         "{out}"
     );
     let o = run(

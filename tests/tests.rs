@@ -2,6 +2,7 @@
 
 mod bad_input;
 mod common;
+mod contract;
 mod evaluate;
 mod link;
 mod tricky;

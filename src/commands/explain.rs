@@ -47,7 +47,7 @@ pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
     println!("{}:{}  vs  {}:{}", args.a.0, args.a.1, args.b.0, args.b.1);
     println!(
         "{:<14} {:<28} {:<28} {:<22} {:>8}",
-        "attribute", "value a", "value b", "level", "weight"
+        "attribute", "value a", "value b", "level", "bits"
     );
     for a in &e.attrs {
         println!(
@@ -56,12 +56,13 @@ pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
             a.value_a.as_deref().unwrap_or("-"),
             a.value_b.as_deref().unwrap_or("-"),
             a.level,
-            a.weight
+            a.bits
         );
     }
     println!(
-        "total weight {:+.2} bits, match probability {:.6}, decision {}",
-        e.weight,
+        "evidence {:+.4} bits, prior {:+.4} bits, probability {:.6}, decision {}",
+        e.evidence,
+        e.prior,
         e.probability,
         e.decision.name()
     );

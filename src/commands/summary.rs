@@ -85,7 +85,7 @@ pub fn print(s: &RunSummary, timings: bool) {
     for w in &s.model.warnings {
         println!("  warning: {w}");
     }
-    println!("  thresholds: {}", s.classifier.describe());
+    println!("  thresholds: {}", s.decider.describe());
     println!(
         "  estimated at the match threshold (from the model, no labels): precision {:.4}, \
          recall {:.4} of the candidates' matches",
@@ -93,7 +93,7 @@ pub fn print(s: &RunSummary, timings: bool) {
     );
     println!("\nDecisions");
     println!(
-        "  match {}   review {}   non-match {}",
+        "  match {}   review {}   non_match {}",
         s.decisions[0], s.decisions[1], s.decisions[2]
     );
     println!(

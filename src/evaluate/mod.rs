@@ -1051,7 +1051,7 @@ mod tests {
         assert_eq!(m.pairwise.true_positives, 1);
         assert_eq!(m.pairwise.predicted_pairs, 3);
         let pairs = file(
-            "source_a,id_a,source_b,id_b,match_weight\n\
+            "source_a,id_a,source_b,id_b,evidence_bits\n\
              crm,1,web,a7,12.5\n\
              web,a7,crm,1,12.5\n\
              crm,2,crm,1,-3\n\

@@ -1,10 +1,16 @@
 //! Keys: clusters in, one surrogate customer key per cluster out.
 //!
 //! A cluster's key is derived from its anchor record, the member with the smallest
-//! (source name, source id): `C` followed by 12 hex digits of a stable hash of the
-//! anchor. The key therefore does not depend on record order, thread count or on other
-//! clusters, and it stays the same when unrelated records are added. Hash collisions are
-//! resolved deterministically by rehashing with a counter, in anchor order.
+//! (source name, source id). Its form is `SK-XXXX-XXXX-XXXX`: the letters `SK`, then 60
+//! bits of a stable hash of the anchor in three hyphen-separated groups of four
+//! characters from the Crockford base-32 alphabet (`0-9` and `A-Z` without `I`, `L`, `O`
+//! and `U`, so that no character can be misread as another), e.g. `SK-7G3M-Q2XD-94KT`.
+//! The fixed prefix and the hyphens make a customer key impossible to mistake for a
+//! source id column value at a glance, and [`is_customer_key`] recognizes the form.
+//!
+//! The key does not depend on record order, thread count or on other clusters, and it
+//! stays the same when unrelated records are added. Hash collisions are resolved
+//! deterministically by rehashing with a counter, in anchor order.
 
 use std::collections::HashSet;
 
@@ -82,7 +88,39 @@ pub fn key_for(source: &str, id: &str, salt: u32) -> String {
         bytes.extend_from_slice(&salt.to_le_bytes());
     }
     // mix64 spreads FNV's weak high bits so similar ids get unrelated keys.
-    format!("C{:012X}", crate::util::mix64(stable_hash(&bytes)) >> 16)
+    format_key(crate::util::mix64(stable_hash(&bytes)) >> 4)
+}
+
+/// Crockford's base-32 alphabet: digits and capital letters without I, L, O and U.
+const ALPHABET: &[u8; 32] = b"0123456789ABCDEFGHJKMNPQRSTVWXYZ";
+
+/// Length of a customer key: `SK-` and three groups of four characters with hyphens.
+pub const KEY_LEN: usize = 17;
+
+/// The key for the low 60 bits of `bits`.
+fn format_key(bits: u64) -> String {
+    let mut key = String::with_capacity(KEY_LEN);
+    key.push_str("SK");
+    for group in 0..3 {
+        key.push('-');
+        for i in 0..4 {
+            let shift = 55 - 5 * (group * 4 + i);
+            key.push(ALPHABET[((bits >> shift) & 31) as usize] as char);
+        }
+    }
+    key
+}
+
+/// True when `s` has the form of a customer key (`SK-XXXX-XXXX-XXXX`, Crockford base 32).
+pub fn is_customer_key(s: &str) -> bool {
+    let b = s.as_bytes();
+    b.len() == KEY_LEN
+        && b.starts_with(b"SK")
+        && [2, 7, 12].iter().all(|&i| b[i] == b'-')
+        && b.iter()
+            .enumerate()
+            .filter(|(i, _)| *i >= 3 && ![7, 12].contains(i))
+            .all(|(_, c)| ALPHABET.contains(c))
 }
 
 #[cfg(test)]
@@ -114,7 +152,37 @@ mod tests {
         let keys2: Vec<&str> = (0..4).map(|r| k2.key(r)).collect();
         assert_eq!(keys2[0], keys[2]);
         assert_eq!(keys2[3], keys[0]);
-        assert_eq!(keys[0].len(), 13);
-        assert!(keys[0].starts_with('C'));
+        assert!(is_customer_key(keys[0]), "{}", keys[0]);
+    }
+
+    #[test]
+    fn key_form() {
+        assert_eq!(format_key(0), "SK-0000-0000-0000");
+        // All 60 bits set: the last alphabet character everywhere.
+        assert_eq!(format_key((1 << 60) - 1), "SK-ZZZZ-ZZZZ-ZZZZ");
+        // 5 bits per character, most significant first: 1 in the lowest 5 bits is the
+        // last character; 31 << 55 the first.
+        assert_eq!(format_key(1), "SK-0000-0000-0001");
+        assert_eq!(format_key(31 << 55), "SK-Z000-0000-0000");
+        assert_eq!(format_key(10 << 50), "SK-0A00-0000-0000");
+        assert!(is_customer_key("SK-7G3M-Q2XD-94KT"));
+        for not_a_key in [
+            "C887B5F51BD3D",
+            "SK-7G3M-Q2XD-94K",
+            "SK-7G3M-Q2XD-94KI", // I is not in the alphabet
+            "SK_7G3M-Q2XD-94KT",
+            "sk-7g3m-q2xd-94kt",
+        ] {
+            assert!(!is_customer_key(not_a_key), "{not_a_key}");
+        }
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn every_key_has_the_form_and_is_stable(source in "[a-z]{1,8}", id in "\\PC{0,20}", salt in 0u32..4) {
+            let k = key_for(&source, &id, salt);
+            proptest::prop_assert!(is_customer_key(&k), "{}", k);
+            proptest::prop_assert_eq!(k, key_for(&source, &id, salt));
+        }
     }
 }

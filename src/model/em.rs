@@ -4,7 +4,7 @@
 //! parameters ([`Params`]) and options ([`EmOptions`]).
 //! **Out:** fitted parameters — the match prevalence λ among candidate pairs and,
 //! per attribute, the level probabilities m (given match) and u (given non-match) —
-//! plus the log-likelihood trace ([`EmFit`]). [`match_weight`] and [`posterior`]
+//! plus the log-likelihood trace ([`EmFit`]). [`evidence_bits`] and [`posterior`]
 //! score one comparison vector with fitted parameters.
 //!
 //! The model is the two-class latent class model with conditional independence
@@ -432,7 +432,7 @@ fn is_active(active: Option<&[bool]>, k: usize) -> bool {
 /// attributes that are not missing. Codes outside an attribute's levels (and
 /// attributes beyond the parameters) are treated as missing; to leave an attribute
 /// out of the weight, pass [`MISSING_LEVEL`] for it.
-pub fn match_weight(params: &Params, codes: &[u8]) -> f64 {
+pub fn evidence_bits(params: &Params, codes: &[u8]) -> f64 {
     codes
         .iter()
         .zip(params.m.iter().zip(&params.u))
@@ -446,7 +446,7 @@ pub fn match_weight(params: &Params, codes: &[u8]) -> f64 {
 /// Match probability P(M | γ) = λ m(γ) / (λ m(γ) + (1 − λ) u(γ)), computed from the
 /// match weight: log2-odds = W + log2(λ / (1 − λ)) (METHODS §4).
 pub fn posterior(params: &Params, codes: &[u8]) -> f64 {
-    let log2_odds = match_weight(params, codes) + (params.lambda / (1.0 - params.lambda)).log2();
+    let log2_odds = evidence_bits(params, codes) + (params.lambda / (1.0 - params.lambda)).log2();
     logistic(log2_odds * std::f64::consts::LN_2)
 }
 
@@ -1102,8 +1102,8 @@ mod tests {
         assert_close("w agree", w[0][0], (0.9f64 / 0.1).log2(), 1e-15);
         assert_close("w disagree", w[1][1], (0.2f64 / 0.75).log2(), 1e-15);
         let codes = [0, 1];
-        assert_close("W", match_weight(&p, &codes), w[0][0] + w[1][1], 1e-15);
-        assert_eq!(match_weight(&p, &[MISSING_LEVEL, MISSING_LEVEL]), 0.0);
+        assert_close("W", evidence_bits(&p, &codes), w[0][0] + w[1][1], 1e-15);
+        assert_eq!(evidence_bits(&p, &[MISSING_LEVEL, MISSING_LEVEL]), 0.0);
         // Bayes' rule directly: λ m(γ) / (λ m(γ) + (1 − λ) u(γ)).
         let (mg, ug) = (0.9 * 0.2, 0.1 * 0.75);
         let want = 0.2 * mg / (0.2 * mg + 0.8 * ug);
@@ -1228,7 +1228,7 @@ mod tests {
         ];
         for (pattern, weight, post) in rows {
             let codes: Vec<u8> = pattern.iter().map(|c| 2 - c).collect();
-            assert_close("W", match_weight(&fit.params, &codes), weight, 1e-3);
+            assert_close("W", evidence_bits(&fit.params, &codes), weight, 1e-3);
             assert_close("P(M|γ)", posterior(&fit.params, &codes), post, 2e-6);
         }
     }
@@ -1520,7 +1520,7 @@ mod tests {
             for (codes, _) in data.iter() {
                 let p = posterior(&init, &codes);
                 prop_assert!((0.0..=1.0).contains(&p));
-                let w = match_weight(&init, &codes);
+                let w = evidence_bits(&init, &codes);
                 let odds = init.lambda / (1.0 - init.lambda) * w.exp2();
                 prop_assert!((p - odds / (1.0 + odds)).abs() < 1e-9);
             }

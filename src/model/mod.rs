@@ -401,13 +401,13 @@ impl<'a> Scorer<'a> {
                     .collect();
                 Some(KeyModel {
                     weights,
-                    prior: crate::classify::prior_log2_odds(fit.lambda),
+                    prior: crate::decide::prior_log2_odds(fit.lambda),
                 })
             })
             .collect();
         Scorer {
             weights: model.weights(),
-            prior: crate::classify::prior_log2_odds(model.lambda),
+            prior: crate::decide::prior_log2_odds(model.lambda),
             keys: key_models,
             freq,
         }

@@ -1,10 +1,19 @@
 //! Output: a finished run in, the files of the output contract out.
 //!
 //! - `crosswalk.csv`: `source,source_id,customer_key`, one row per accepted record.
-//! - `pairs.csv`: `source_a,id_a,source_b,id_b,match_weight,match_probability,decision`,
-//!   then one column per compared attribute with its agreement level.
-//! - `review.csv`: the pairs with decision `review`, same columns.
+//! - `pairs.csv`: [`PAIR_COLUMNS`] (`source_a,id_a,source_b,id_b,evidence_bits,
+//!   prior_bits,probability,decision`), then per compared attribute `<attr>_level,
+//!   <attr>_bits` ([`pairs_header`]).
+//! - `review.csv`: the pairs with decision `review`, most probable first: the same
+//!   columns and per attribute also the two values, `<attr>_a,<attr>_b`
+//!   ([`review_header`]).
 //! - `rejects.csv`: `source,line,reason` for every row that was not used.
+//! - `refused.csv`: `source_a,id_a,source_b,id_b,evidence_bits,reason`: matched pairs
+//!   whose merge a clustering guard refused.
+//!
+//! `evidence_bits` is the sum of the `<attr>_bits` of its row (each rounded to four
+//! decimals before adding), and `probability` is `1 / (1 + 2^-(prior_bits +
+//! evidence_bits))`.
 //!
 //! Files are written into a staging folder inside the output folder and moved into
 //! place only when the whole run succeeded, so a failed run leaves the previous outputs
@@ -13,8 +22,48 @@
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+use crate::compare::Comparison;
 use crate::error::{Error, Result};
 use crate::sources::Reject;
+
+/// The first columns of `pairs.csv` and `review.csv`.
+pub const PAIR_COLUMNS: [&str; 8] = [
+    "source_a",
+    "id_a",
+    "source_b",
+    "id_b",
+    "evidence_bits",
+    "prior_bits",
+    "probability",
+    "decision",
+];
+
+/// The header of `pairs.csv`: [`PAIR_COLUMNS`], then `<attr>_level,<attr>_bits` per
+/// compared attribute.
+pub fn pairs_header(comparison: &Comparison) -> Vec<String> {
+    let mut h: Vec<String> = PAIR_COLUMNS.iter().map(|s| s.to_string()).collect();
+    for c in &comparison.comparators {
+        let n = c.attr.name();
+        h.extend([format!("{n}_level"), format!("{n}_bits")]);
+    }
+    h
+}
+
+/// The header of `review.csv`: [`PAIR_COLUMNS`], then `<attr>_level,<attr>_bits,
+/// <attr>_a,<attr>_b` per compared attribute.
+pub fn review_header(comparison: &Comparison) -> Vec<String> {
+    let mut h: Vec<String> = PAIR_COLUMNS.iter().map(|s| s.to_string()).collect();
+    for c in &comparison.comparators {
+        let n = c.attr.name();
+        h.extend([
+            format!("{n}_level"),
+            format!("{n}_bits"),
+            format!("{n}_a"),
+            format!("{n}_b"),
+        ]);
+    }
+    h
+}
 
 /// Write `bytes` to `path` through a temporary file in the same folder and a rename.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {

@@ -2,7 +2,7 @@
 //!
 //! The spec names the sources (CSV path, id column, column → attribute mapping and
 //! per-source conventions), the comparison levels per attribute, the blocking keys, the
-//! classification thresholds and the model settings. Every key is documented in the
+//! decision thresholds and the model settings. Every key is documented in the
 //! README. Validation walks the parsed TOML by hand so that every error names the key
 //! path (`source[2].columns.email`), the bad value and what is allowed.
 
@@ -30,8 +30,8 @@ pub struct Spec {
     pub compares: Vec<CompareSpec>,
     /// Blocking keys, in spec order (earlier keys win when a pair is produced twice).
     pub blocks: Vec<BlockSpec>,
-    /// Classification thresholds.
-    pub classify: ClassifySpec,
+    /// Decision thresholds (`[decide]`).
+    pub decide: DecideSpec,
     /// Model settings.
     pub model: ModelSpec,
     /// Clustering guards.
@@ -306,30 +306,25 @@ pub struct BlockSpec {
     pub keys: Vec<KeyPart>,
 }
 
-/// Thresholds for classification.
+/// The `[decide]` section: the thresholds, stated once, as match probabilities.
+///
+/// A pair whose probability is at least `match_at` is a match; at least `review_at`
+/// (and below `match_at`), review; below `review_at`, non_match.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub enum Thresholds {
-    /// Match probability thresholds (upper, lower).
-    Probability {
-        /// At or above: match.
-        upper: f64,
-        /// At or above (and below upper): review.
-        lower: f64,
-    },
-    /// Match weight thresholds (log2), upper and lower.
-    Weight {
-        /// At or above: match.
-        upper: f64,
-        /// At or above (and below upper): review.
-        lower: f64,
-    },
+pub struct DecideSpec {
+    /// Probability at or above which a pair is a match.
+    pub match_at: f64,
+    /// Probability at or above which (and below `match_at`) a pair goes to review.
+    pub review_at: f64,
 }
 
-/// The `[classify]` section.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct ClassifySpec {
-    /// Upper and lower thresholds.
-    pub thresholds: Thresholds,
+impl Default for DecideSpec {
+    fn default() -> Self {
+        DecideSpec {
+            match_at: 0.9,
+            review_at: 0.5,
+        }
+    }
 }
 
 /// The `[model]` section.
@@ -537,7 +532,7 @@ impl Walker {
             t,
             "",
             &[
-                "version", "source", "compare", "block", "classify", "model", "cluster",
+                "version", "source", "compare", "block", "decide", "classify", "model", "cluster",
             ],
         )?;
         match t.get("version") {
@@ -593,7 +588,7 @@ impl Walker {
                 }
             }
         }
-        let classify = self.classify(t)?;
+        let decide = self.decide(t)?;
         let model = self.model(t)?;
         let cluster = self.cluster(t, &sources)?;
         Ok(Spec {
@@ -601,7 +596,7 @@ impl Walker {
             sources,
             compares,
             blocks,
-            classify,
+            decide,
             model,
             cluster,
         })
@@ -882,76 +877,48 @@ impl Walker {
         Ok(BlockSpec { name, keys })
     }
 
-    fn classify(&self, root: &Table) -> Result<ClassifySpec> {
-        let default = ClassifySpec {
-            thresholds: Thresholds::Probability {
-                upper: 0.9,
-                lower: 0.5,
-            },
-        };
-        let t = match root.get("classify") {
-            None => return Ok(default),
+    fn decide(&self, root: &Table) -> Result<DecideSpec> {
+        if root.contains_key("classify") {
+            return Err(self.err(
+                "classify",
+                "this section is now called [decide], with the thresholds as probabilities: \
+                 write [decide] with match_at = 0.9 and review_at = 0.5 (your values)",
+            ));
+        }
+        let t = match root.get("decide") {
+            None => return Ok(DecideSpec::default()),
             Some(Value::Table(t)) => t,
             Some(v) => {
                 return Err(self.err(
-                    "classify",
+                    "decide",
                     format!("expected a table, found {}", type_name(v)),
                 ))
             }
         };
-        let at = "classify";
-        self.check_keys(
-            t,
-            at,
-            &[
-                "match_probability",
-                "review_probability",
-                "match_weight",
-                "review_weight",
-            ],
-        )?;
-        let mp = self.number(t, at, "match_probability")?;
-        let rp = self.number(t, at, "review_probability")?;
-        let mw = self.number(t, at, "match_weight")?;
-        let rw = self.number(t, at, "review_weight")?;
-        if (mp.is_some() || rp.is_some()) && (mw.is_some() || rw.is_some()) {
-            return Err(self.err(
-                at,
-                "set either the *_probability thresholds or the *_weight thresholds, not both",
-            ));
-        }
-        if mw.is_some() || rw.is_some() {
-            let (Some(upper), Some(lower)) = (mw, rw) else {
-                return Err(self.err(at, "set both match_weight and review_weight"));
-            };
-            if lower > upper {
-                return Err(self.err(
-                    "classify.review_weight",
-                    format!("`{lower}` is above match_weight `{upper}`; it must be at most that"),
-                ));
-            }
-            return Ok(ClassifySpec {
-                thresholds: Thresholds::Weight { upper, lower },
-            });
-        }
-        let upper = mp.unwrap_or(0.9);
-        let lower = rp.unwrap_or(upper.min(0.5));
-        for (k, v) in [("match_probability", upper), ("review_probability", lower)] {
+        let at = "decide";
+        self.check_keys(t, at, &["match_at", "review_at"])?;
+        let default = DecideSpec::default();
+        let match_at = self.number(t, at, "match_at")?.unwrap_or(default.match_at);
+        let review_at = self
+            .number(t, at, "review_at")?
+            .unwrap_or(default.review_at.min(match_at));
+        for (k, v) in [("match_at", match_at), ("review_at", review_at)] {
             if !(v > 0.0 && v < 1.0) {
                 return Err(self.err(
-                    format!("classify.{k}"),
-                    format!("`{v}` must be strictly between 0 and 1"),
+                    format!("decide.{k}"),
+                    format!("`{v}` is a probability and must be strictly between 0 and 1"),
                 ));
             }
         }
-        if lower > upper {
+        if review_at > match_at {
             return Err(self.err(
-                "classify.review_probability",
-                format!("`{lower}` is above match_probability `{upper}`; it must be at most that"),
+                "decide.review_at",
+                format!("`{review_at}` is above match_at `{match_at}`; it must be at most that"),
             ));
         }
-        Ok(ClassifySpec {
-            thresholds: Thresholds::Probability { upper, lower },
+        Ok(DecideSpec {
+            match_at,
+            review_at,
         })
     }
 
@@ -1103,9 +1070,9 @@ levels = ["exact", "date_swap", "same_year"]
 [[block]]
 name = "name"
 keys = ["soundex(family_name)", "prefix(birth_date, 4)"]
-[classify]
-match_probability = 0.95
-review_probability = 0.4
+[decide]
+match_at = 0.95
+review_at = 0.4
 [model]
 seed = 7
 [cluster]
@@ -1150,10 +1117,10 @@ unique = ["email"]
             ]
         );
         assert_eq!(
-            s.classify.thresholds,
-            Thresholds::Probability {
-                upper: 0.95,
-                lower: 0.4
+            s.decide,
+            DecideSpec {
+                match_at: 0.95,
+                review_at: 0.4
             }
         );
         assert_eq!(s.model.seed, 7);
@@ -1237,9 +1204,22 @@ unique = ["email"]
         let (k, _) = err_of(&GOOD.replace("prefix(birth_date, 4)", "prefix(birth_date)"));
         assert_eq!(k, "block[1].keys[2]");
 
-        let (k, m) = err_of(&GOOD.replace("review_probability = 0.4", "review_probability = 0.99"));
-        assert_eq!(k, "classify.review_probability");
+        let (k, m) = err_of(&GOOD.replace("review_at = 0.4", "review_at = 0.99"));
+        assert_eq!(k, "decide.review_at");
         assert!(m.contains("0.99"), "{m}");
+
+        let (k, m) = err_of(&GOOD.replace("match_at = 0.95", "match_at = 1.5"));
+        assert_eq!(k, "decide.match_at");
+        assert!(m.contains("between 0 and 1"), "{m}");
+
+        // The section's old name is refused with the new one in the message.
+        let (k, m) = err_of(&GOOD.replace("[decide]", "[classify]"));
+        assert_eq!(k, "classify");
+        assert!(m.contains("[decide]") && m.contains("match_at"), "{m}");
+
+        let (k, m) = err_of(&GOOD.replace("match_at = 0.95", "match_bits = 12"));
+        assert_eq!(k, "decide.match_bits");
+        assert!(m.contains("match_at"), "{m}");
 
         let (k, m) = err_of(&GOOD.replace("version = 1", "version = 9"));
         assert_eq!(k, "version");
@@ -1260,7 +1240,7 @@ unique = ["email"]
         assert_eq!(k, "source[2].name");
         assert!(m.contains("two sources"), "{m}");
         let start = GOOD.find("[[block]]").unwrap();
-        let end = GOOD.find("[classify]").unwrap();
+        let end = GOOD.find("[decide]").unwrap();
         let (k, m) = err_of(&format!("{}{}", &GOOD[..start], &GOOD[end..]));
         assert_eq!(k, "block");
         assert!(m.contains("at least one [[block]]"), "{m}");

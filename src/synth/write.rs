@@ -166,9 +166,9 @@ keys = ["phone"]
 name = "birth_given"
 keys = ["birth_date", "initial(given_name)"]
 
-[classify]
-match_probability = 0.9
-review_probability = 0.5
+[decide]
+match_at = 0.9
+review_at = 0.5
 
 [cluster]
 # A customer has one date of birth: clusters with different birth dates are not merged

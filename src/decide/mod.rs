@@ -1,25 +1,34 @@
-//! Classify: a pair's match weight in, its match probability and decision out.
+//! Decide: a pair's evidence in, its probability and decision out.
 //!
-//! The match weight is the log2 likelihood ratio `Σ log2(m/u)` over the compared
-//! attributes (missing values add nothing). With the match prior λ of the model that
-//! scored the pair the match probability is `1 / (1 + 2^-(W + log2(λ / (1 − λ))))`.
-//! Thresholds are given as probabilities (compared in log2 odds) or as weights.
+//! A pair's *evidence* is the log2 likelihood ratio `Σ log2(m/u)` over the compared
+//! attributes, in bits (a missing value adds nothing). The model that scored the pair
+//! gives a *prior*, the log2 prior odds `log2(λ / (1 − λ))`. Their sum is the pair's
+//! posterior log2 odds, and its *probability* is `1 / (1 + 2^-(prior + evidence))`. The
+//! spec's `[decide]` section states the two thresholds once, as probabilities
+//! (`match_at`, `review_at`); they are compared in log2 odds.
+//!
+//! [`Scored`] is what one call of [`crate::score::PairScorer::score`] returns: the
+//! evidence, prior, probability and decision of one pair, all derived from the same
+//! rounded per-attribute bits that the output files show.
 
-use crate::spec::Thresholds;
+use crate::spec::DecideSpec;
 
 /// What happens to a pair.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub enum Decision {
-    /// At or above the upper threshold: the records are linked.
+    /// At or above `match_at`: the records are linked.
     Match,
-    /// Between the thresholds: a person should look.
+    /// At or above `review_at` and below `match_at`: a person should look.
     Review,
-    /// Below the lower threshold.
+    /// Below `review_at`.
     NonMatch,
 }
 
 impl Decision {
-    /// The name written to output files.
+    /// Every decision, in index order (`Decision as usize`).
+    pub const ALL: [Decision; 3] = [Decision::Match, Decision::Review, Decision::NonMatch];
+
+    /// The name written to output files and summaries: `match`, `review`, `non_match`.
     pub fn name(self) -> &'static str {
         match self {
             Decision::Match => "match",
@@ -29,55 +38,38 @@ impl Decision {
     }
 }
 
-/// Turns weights into probabilities and decisions.
-///
-/// A pair's *score* is what the thresholds are compared with: its posterior log2 odds
-/// `W + log2(λ / (1 − λ))` when thresholds are probabilities, or its match weight `W`
-/// when thresholds are weights. The prior `λ` comes with the model that scored the pair.
+/// The decision thresholds, as posterior log2 odds.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Classifier {
-    /// Score at or above which a pair is a match.
+pub struct Decider {
+    /// log2 odds at or above which a pair is a match.
     pub upper: f64,
-    /// Score at or above which (and below `upper`) a pair goes to review.
+    /// log2 odds at or above which (and below `upper`) a pair goes to review.
     pub lower: f64,
-    /// True when scores are match weights, false when they are posterior log2 odds.
-    pub by_weight: bool,
 }
 
-impl Classifier {
-    /// Build from the spec's thresholds.
-    pub fn new(thresholds: Thresholds) -> Classifier {
-        match thresholds {
-            Thresholds::Weight { upper, lower } => Classifier {
-                upper,
-                lower,
-                by_weight: true,
-            },
-            Thresholds::Probability { upper, lower } => Classifier {
-                upper: log2_odds(upper),
-                lower: log2_odds(lower),
-                by_weight: false,
-            },
+impl Decider {
+    /// Build from the spec's `[decide]` section.
+    pub fn new(spec: DecideSpec) -> Decider {
+        Decider {
+            upper: log2_odds(spec.match_at),
+            lower: log2_odds(spec.review_at),
         }
     }
 
-    /// The score of a pair with weight `w` under prior log2 odds `prior`.
+    /// The score the thresholds are compared with: posterior log2 odds of a pair with
+    /// evidence `evidence` under prior log2 odds `prior`.
     #[inline]
-    pub fn score(&self, w: f64, prior: f64) -> f64 {
-        if self.by_weight {
-            w
-        } else {
-            w + prior
-        }
+    pub fn score(&self, evidence: f64, prior: f64) -> f64 {
+        evidence + prior
     }
 
-    /// Match probability of a pair with weight `w` under prior log2 odds `prior`.
+    /// Probability of a pair with evidence `evidence` under prior log2 odds `prior`.
     #[inline]
-    pub fn probability(w: f64, prior: f64) -> f64 {
-        1.0 / (1.0 + (-(w + prior)).exp2())
+    pub fn probability(evidence: f64, prior: f64) -> f64 {
+        probability_of(evidence + prior)
     }
 
-    /// Decision for a score.
+    /// Decision for a score (posterior log2 odds).
     #[inline]
     pub fn decide(&self, score: f64) -> Decision {
         if score >= self.upper {
@@ -89,22 +81,30 @@ impl Classifier {
         }
     }
 
+    /// The match threshold as a probability.
+    pub fn match_at(&self) -> f64 {
+        probability_of(self.upper)
+    }
+
+    /// The review threshold as a probability.
+    pub fn review_at(&self) -> f64 {
+        probability_of(self.lower)
+    }
+
     /// The thresholds in words.
     pub fn describe(&self) -> String {
-        if self.by_weight {
-            format!(
-                "match at weight >= {:.2}, review at weight >= {:.2}",
-                self.upper, self.lower
-            )
-        } else {
-            let p = |x: f64| 1.0 / (1.0 + (-x).exp2());
-            format!(
-                "match at probability >= {:.4}, review at probability >= {:.4}",
-                p(self.upper),
-                p(self.lower)
-            )
-        }
+        format!(
+            "match at probability >= {:.4}, review at probability >= {:.4}",
+            self.match_at(),
+            self.review_at()
+        )
     }
+}
+
+/// The probability of posterior log2 odds `x`.
+#[inline]
+pub fn probability_of(x: f64) -> f64 {
+    1.0 / (1.0 + (-x).exp2())
 }
 
 /// log2 prior odds of a match prior `lambda`.
@@ -115,6 +115,37 @@ pub fn prior_log2_odds(lambda: f64) -> f64 {
 
 fn log2_odds(p: f64) -> f64 {
     (p / (1.0 - p)).log2()
+}
+
+/// One scored pair: the numbers the output files show and the decision made from them.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Scored {
+    /// Sum of the per-attribute bits (each rounded to [`BITS_DECIMALS`] decimals).
+    pub evidence: f64,
+    /// log2 prior odds of the model that scored the pair (rounded likewise).
+    pub prior: f64,
+    /// `1 / (1 + 2^-(prior + evidence))`.
+    pub probability: f64,
+    /// The decision at the thresholds.
+    pub decision: Decision,
+}
+
+impl Scored {
+    /// Posterior log2 odds, `prior + evidence`: what the thresholds are compared with.
+    pub fn log2_odds(&self) -> f64 {
+        self.prior + self.evidence
+    }
+}
+
+/// Decimals of every bit value the outputs show; scoring rounds to the same, so that
+/// the evidence shown is exactly the sum of the bits shown.
+pub const BITS_DECIMALS: usize = 4;
+
+/// Round a number of bits to [`BITS_DECIMALS`] decimals.
+#[inline]
+pub fn round_bits(x: f64) -> f64 {
+    // Adding 0.0 turns -0.0 into 0.0, so that no file shows "-0.0000".
+    (x * 1e4).round() / 1e4 + 0.0
 }
 
 /// Bins per bit of weight in a [`WeightHistogram`].
@@ -234,22 +265,38 @@ mod tests {
         // λ = 1/1025: prior odds 1:1024, log2 = -10.
         let prior = prior_log2_odds(1.0 / 1025.0);
         assert!((prior + 10.0).abs() < 1e-9);
-        let c = Classifier::new(Thresholds::Probability {
-            upper: 0.8,
-            lower: 0.5,
+        let c = Decider::new(DecideSpec {
+            match_at: 0.8,
+            review_at: 0.5,
         });
         assert!((c.lower - 0.0).abs() < 1e-12);
         assert!((c.upper - 2.0).abs() < 1e-12); // log2(0.8/0.2) = 2
-        assert!((Classifier::probability(10.0, prior) - 0.5).abs() < 1e-12);
+        assert!((Decider::probability(10.0, prior) - 0.5).abs() < 1e-12);
         assert_eq!(c.decide(c.score(12.01, prior)), Decision::Match);
         assert_eq!(c.decide(c.score(11.0, prior)), Decision::Review);
         assert_eq!(c.decide(c.score(9.99, prior)), Decision::NonMatch);
-        let w = Classifier::new(Thresholds::Weight {
-            upper: 12.0,
-            lower: 8.0,
-        });
-        assert_eq!(w.decide(w.score(12.0, prior)), Decision::Match);
-        assert_eq!(w.decide(w.score(9.0, -100.0)), Decision::Review);
+        assert!((c.match_at() - 0.8).abs() < 1e-12);
+        assert!((c.review_at() - 0.5).abs() < 1e-12);
+        assert_eq!(
+            c.describe(),
+            "match at probability >= 0.8000, review at probability >= 0.5000"
+        );
+    }
+
+    #[test]
+    fn decision_names_are_the_file_vocabulary() {
+        let names: Vec<&str> = Decision::ALL.iter().map(|d| d.name()).collect();
+        assert_eq!(names, ["match", "review", "non_match"]);
+        for (i, d) in Decision::ALL.iter().enumerate() {
+            assert_eq!(*d as usize, i);
+        }
+    }
+
+    #[test]
+    fn bits_round_to_four_decimals() {
+        assert_eq!(round_bits(1.23456), 1.2346);
+        assert_eq!(format!("{:.4}", round_bits(-0.00004)), "0.0000");
+        assert_eq!(format!("{:.4}", round_bits(-7.00005)), "-7.0001");
     }
 
     #[test]
@@ -276,11 +323,11 @@ mod tests {
         fn probability_is_monotone_and_agrees_with_decision(
             lambda in 1e-9f64..0.5, w1 in -40.0f64..40.0, w2 in -40.0f64..40.0
         ) {
-            let c = Classifier::new(Thresholds::Probability { upper: 0.9, lower: 0.4 });
+            let c = Decider::new(DecideSpec { match_at: 0.9, review_at: 0.4 });
             let prior = prior_log2_odds(lambda);
             let (lo, hi) = if w1 <= w2 { (w1, w2) } else { (w2, w1) };
-            prop_assert!(Classifier::probability(lo, prior) <= Classifier::probability(hi, prior));
-            let p = Classifier::probability(hi, prior);
+            prop_assert!(Decider::probability(lo, prior) <= Decider::probability(hi, prior));
+            let p = Decider::probability(hi, prior);
             match c.decide(c.score(hi, prior)) {
                 Decision::Match => prop_assert!(p >= 0.9 - 1e-9),
                 Decision::Review => prop_assert!((0.4 - 1e-9..0.9 + 1e-9).contains(&p)),

@@ -1,0 +1,225 @@
+//! Score: a candidate pair in, its per-attribute bits, evidence, prior, probability and
+//! decision out.
+//!
+//! [`PairScorer`] joins the fitted model's weights ([`crate::model::Scorer`]) and the
+//! thresholds of `[decide]` ([`Decider`]) so that every command scores a pair with one
+//! call. Every number is rounded to [`BITS_DECIMALS`] decimals of a bit *before* it is
+//! added up, so the evidence is exactly the sum of the bits the outputs show, and the
+//! probability and decision follow from the prior and evidence shown.
+
+use crate::compare::Gamma;
+use crate::decide::{round_bits, Decider, Scored};
+use crate::model::Scorer;
+
+#[cfg(doc)]
+use crate::decide::BITS_DECIMALS;
+
+/// Scores pairs: model weights plus decision thresholds.
+#[derive(Debug, Clone)]
+pub struct PairScorer<'a> {
+    scorer: Scorer<'a>,
+    decider: Decider,
+    attrs: usize,
+}
+
+impl<'a> PairScorer<'a> {
+    /// Score with `scorer`'s weights over `attrs` compared attributes and decide with
+    /// `decider`.
+    pub fn new(scorer: Scorer<'a>, decider: Decider, attrs: usize) -> PairScorer<'a> {
+        PairScorer {
+            scorer,
+            decider,
+            attrs,
+        }
+    }
+
+    /// The decision thresholds.
+    pub fn decider(&self) -> &Decider {
+        &self.decider
+    }
+
+    /// Replace the decision thresholds (e.g. with one chosen by `--target-precision`).
+    pub fn set_decider(&mut self, decider: Decider) {
+        self.decider = decider;
+    }
+
+    /// The model's weights.
+    pub fn model_scorer(&self) -> &Scorer<'a> {
+        &self.scorer
+    }
+
+    /// Bits added by attribute `k` at level `code` for a pair of blocking key `key`
+    /// (`None`: scored with the combined model) whose first record is `a`, rounded.
+    #[inline]
+    pub fn bits(&self, key: Option<usize>, k: usize, code: u8, a: u32) -> f64 {
+        round_bits(self.scorer.contribution(key, k, code, a))
+    }
+
+    /// The prior (log2 prior odds) for pairs of blocking key `key`, rounded.
+    #[inline]
+    pub fn prior(&self, key: Option<usize>) -> f64 {
+        round_bits(self.scorer.prior(key))
+    }
+
+    /// Score a pair of blocking key `key` with comparison vector `gamma` and first
+    /// record `a`.
+    #[inline]
+    pub fn score(&self, key: Option<usize>, gamma: &Gamma, a: u32) -> Scored {
+        let evidence: f64 = (0..self.attrs)
+            .map(|k| self.bits(key, k, gamma[k], a))
+            .sum();
+        // Summing rounded values can leave float noise in the last place; round again so
+        // that the number kept is the number written.
+        let evidence = round_bits(evidence);
+        let prior = self.prior(key);
+        let odds = self.decider.score(evidence, prior);
+        Scored {
+            evidence,
+            prior,
+            probability: Decider::probability(evidence, prior),
+            decision: self.decider.decide(odds),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::compare::{Comparator, Comparison, MAX_ATTRS, MISSING_LEVEL};
+    use crate::decide::Decision;
+    use crate::model::{AttrModel, Model, MODEL_VERSION};
+    use crate::record::{Attr, RecordTable, RecordTableBuilder, StdRecord};
+    use crate::spec::{CompareSpec, DecideSpec, Level};
+
+    /// Two attributes, m and u invented so that the bits are easy to check by hand.
+    fn model() -> Model {
+        let attr = |name: &str, m: [f64; 2], u: [f64; 2]| AttrModel {
+            attribute: name.into(),
+            levels: vec!["exact".into(), "disagree".into()],
+            m: m.to_vec(),
+            u: u.to_vec(),
+            weight: m.iter().zip(&u).map(|(m, u)| (m / u).log2()).collect(),
+            frequency: false,
+        };
+        Model {
+            format: "samekey-model".into(),
+            version: MODEL_VERSION,
+            spec_fingerprint: String::new(),
+            spec_layout: String::new(),
+            // log2(λ/(1-λ)) = log2(1/1023) ≈ -9.9986 bits.
+            lambda: 1.0 / 1024.0,
+            records: 0,
+            candidate_pairs: 0,
+            expected_matches: 0.0,
+            u_sample_pairs: 0,
+            attribute: vec![
+                // exact: log2(0.9/0.01) = 6.4919 bits; disagree: log2(0.1/0.99) = -3.3074.
+                attr("family_name", [0.9, 0.1], [0.01, 0.99]),
+                // exact: log2(0.8/0.001) = 9.6439 bits; disagree: log2(0.2/0.999) = -2.3205.
+                attr("email", [0.8, 0.2], [0.001, 0.999]),
+            ],
+            block: Vec::new(),
+            warnings: Vec::new(),
+        }
+    }
+
+    fn table() -> RecordTable {
+        let mut b = RecordTableBuilder::new(vec!["s".into()]);
+        for (i, (n, e)) in [("lind", "a@x.org"), ("lind", "a@x.org"), ("berg", "")]
+            .iter()
+            .enumerate()
+        {
+            let mut r = StdRecord::default();
+            r.set(Attr::FamilyName, Some(n.to_string()));
+            if !e.is_empty() {
+                r.set(Attr::Email, Some(e.to_string()));
+            }
+            b.push(0, i.to_string(), r);
+        }
+        b.finish()
+    }
+
+    fn comparison(table: &RecordTable) -> Comparison {
+        let spec = |attr| CompareSpec {
+            attr,
+            levels: vec![Level::Exact],
+            frequency: false,
+        };
+        Comparison {
+            comparators: vec![
+                Comparator::new(&spec(Attr::FamilyName), table.column(Attr::FamilyName)),
+                Comparator::new(&spec(Attr::Email), table.column(Attr::Email)),
+            ],
+        }
+    }
+
+    #[test]
+    fn one_call_gives_bits_evidence_prior_probability_and_decision() {
+        let (table, model) = (table(), model());
+        let comparison = comparison(&table);
+        let scorer = PairScorer::new(
+            Scorer::new(&model, &comparison, &table, &[]),
+            Decider::new(DecideSpec {
+                match_at: 0.9,
+                review_at: 0.5,
+            }),
+            2,
+        );
+        let mut g = [MISSING_LEVEL; MAX_ATTRS];
+        // Both agree exactly: 6.4919 + 9.6439 = 16.1358 bits.
+        g[0] = 0;
+        g[1] = 0;
+        let s = scorer.score(None, &g, 0);
+        assert_eq!(scorer.bits(None, 0, 0, 0), 6.4919);
+        assert_eq!(scorer.bits(None, 1, 0, 0), 9.6439);
+        assert_eq!(format!("{:.4}", s.evidence), "16.1358");
+        assert_eq!(format!("{:.4}", s.prior), "-9.9986");
+        let p = 1.0 / (1.0 + (-(s.prior + s.evidence)).exp2());
+        assert_eq!(s.probability, p);
+        assert!(p > 0.98 && p < 0.99, "{p}");
+        assert_eq!(s.decision, Decision::Match);
+        // Family name agrees, e-mail missing: 6.4919 bits, probability about 0.022.
+        g[1] = MISSING_LEVEL;
+        let s = scorer.score(None, &g, 0);
+        assert_eq!(s.evidence, 6.4919);
+        assert_eq!(scorer.bits(None, 1, MISSING_LEVEL, 0), 0.0);
+        assert_eq!(s.decision, Decision::NonMatch);
+        // Family name disagrees, e-mail agrees: 6.3365 bits, probability about 0.07:
+        // non_match at the default thresholds, review with review_at = 0.01.
+        g[0] = 1;
+        g[1] = 0;
+        let s = scorer.score(None, &g, 0);
+        assert_eq!(format!("{:.4}", s.evidence), "6.3365");
+        assert_eq!(s.decision, Decision::NonMatch);
+        let lenient = Decider::new(DecideSpec {
+            match_at: 0.99,
+            review_at: 0.01,
+        });
+        let mut scorer = scorer;
+        scorer.set_decider(lenient);
+        assert_eq!(scorer.score(None, &g, 0).decision, Decision::Review);
+        assert_eq!(scorer.decider(), &lenient);
+    }
+
+    #[test]
+    fn the_evidence_is_the_sum_of_the_bits_shown() {
+        let (table, model) = (table(), model());
+        let comparison = comparison(&table);
+        let scorer = PairScorer::new(
+            Scorer::new(&model, &comparison, &table, &[]),
+            Decider::new(DecideSpec::default()),
+            2,
+        );
+        for a in [0u8, 1, MISSING_LEVEL] {
+            for b in [0u8, 1, MISSING_LEVEL] {
+                let mut g = [MISSING_LEVEL; MAX_ATTRS];
+                g[0] = a;
+                g[1] = b;
+                let s = scorer.score(None, &g, 0);
+                let shown = |x: f64| format!("{x:.4}").parse::<f64>().unwrap();
+                let sum = shown(scorer.bits(None, 0, a, 0)) + shown(scorer.bits(None, 1, b, 0));
+                assert_eq!(format!("{:.4}", s.evidence), format!("{sum:.4}"));
+            }
+        }
+    }
+}
