@@ -26,6 +26,7 @@ pub mod score;
 pub mod sources;
 pub mod spec;
 pub mod standardize;
+pub mod store;
 pub mod synth;
 pub mod util;
 

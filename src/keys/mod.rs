@@ -14,6 +14,8 @@
 
 use std::collections::HashSet;
 
+pub mod inherit;
+
 use crate::record::RecordTable;
 use crate::util::stable_hash;
 
