@@ -139,7 +139,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         None => None,
     };
     let bar = Progress::counter(opts.progress, "read + standardize", "rows");
-    let loaded = sources::load_with(spec, &bar)?;
+    let loaded = sources::load_with(&spec.sources, &bar)?;
     bar.finish();
     t.standardize_cpu = loaded.standardize_cpu;
     let table = loaded.table;
@@ -355,7 +355,7 @@ pub struct MergeSummary {
 /// Cluster the matched pairs of several shard runs (their `pairs.csv`) into one
 /// crosswalk, exactly as an unsharded run would.
 pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path) -> Result<MergeSummary> {
-    let loaded = sources::load(spec)?;
+    let loaded = sources::load(&spec.sources)?;
     let table = loaded.table;
     let mut index: std::collections::HashMap<(&str, &str), u32> =
         std::collections::HashMap::with_capacity(table.len());
@@ -749,7 +749,7 @@ pub fn explain(
     a: (&str, &str),
     b: (&str, &str),
 ) -> Result<Explanation> {
-    let loaded = sources::load(spec)?;
+    let loaded = sources::load(&spec.sources)?;
     let table = loaded.table;
     let find = |(src, id): (&str, &str)| {
         if spec.source_index(src).is_none() {

@@ -5,4 +5,5 @@ mod common;
 mod contract;
 mod evaluate;
 mod link;
+mod module_graph;
 mod tricky;

@@ -20,8 +20,10 @@ use rphonetic::{Encoder, Soundex};
 
 use crate::error::{Error, Result};
 use crate::record::{Attr, Column, RecordTable, MISSING};
-use crate::spec::{BlockSpec, KeyFn, KeyPart};
 use crate::standardize::{fold_ascii, fold_for_comparison};
+
+mod key;
+pub use key::{BlockSpec, KeyFn, KeyPart, KEY_HELP};
 
 /// Key id of a record that is not blocked on a key (some part missing).
 pub const NO_KEY: u32 = u32::MAX;

@@ -26,7 +26,7 @@ pub struct Args {
 /// Run `samekey plan`.
 pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
-    let loaded = sources::load(&spec)?;
+    let loaded = sources::load(&spec.sources)?;
     let table = &loaded.table;
     let blocking = Blocking::build(table, &spec.blocks, u64::MAX)?;
     let entity: Option<Vec<u32>> = match &args.truth {

@@ -15,13 +15,12 @@ use std::collections::HashMap;
 use rphonetic::{Encoder, Soundex};
 
 use crate::record::{Attr, Column, RecordTable, ValueId, MISSING};
-use crate::spec::{CompareSpec, Level};
 use crate::standardize::{fold_for_comparison, nickname_equivalent, translit_variants};
 
+mod level;
 pub mod strings;
 
-/// Level code of a comparison where one side is missing (shared with the EM).
-pub use crate::model::em::MISSING_LEVEL;
+pub use level::{CompareSpec, Level, LEVEL_HELP, MAX_DECLARED_LEVELS, MISSING_LEVEL};
 
 /// Most attributes a spec may compare (the size of a comparison vector).
 pub const MAX_ATTRS: usize = 16;

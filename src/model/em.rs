@@ -48,8 +48,9 @@ use std::hash::BuildHasherDefault;
 
 use crate::{Error, Result};
 
-/// Level code of a missing value: skipped by the likelihood, adds 0 to weights.
-pub const MISSING_LEVEL: u8 = u8::MAX;
+/// Level code of a missing value: skipped by the likelihood, adds 0 to weights (defined
+/// by the comparison stage, which produces it).
+pub use crate::compare::MISSING_LEVEL;
 
 /// Largest number of levels an attribute may have (codes 0..=254; 255 is missing).
 pub const MAX_LEVELS: usize = MISSING_LEVEL as usize;

@@ -341,7 +341,7 @@ impl<'a> Scorer<'a> {
         model: &Model,
         comparison: &Comparison,
         table: &'a RecordTable,
-        keys: &[crate::spec::BlockSpec],
+        keys: &[crate::block::BlockSpec],
     ) -> Scorer<'a> {
         let freq = model
             .attribute
@@ -351,10 +351,11 @@ impl<'a> Scorer<'a> {
                 if !a.frequency {
                     return None;
                 }
-                let exact =
-                    c.levels
-                        .iter()
-                        .position(|l| *l == crate::spec::Level::Exact)? as u8;
+                let exact = c
+                    .levels
+                    .iter()
+                    .position(|l| *l == crate::compare::Level::Exact)?
+                    as u8;
                 let col = table.column(c.attr);
                 let present = col.present().max(1) as f64;
                 let u_exact = a.u[exact as usize];
@@ -856,8 +857,8 @@ pub fn fit(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::compare::{CompareSpec, Level};
     use crate::record::{Attr, RecordTableBuilder, StdRecord};
-    use crate::spec::{CompareSpec, Level};
 
     fn model_with(frequency: bool) -> Model {
         Model {

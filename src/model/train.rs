@@ -137,7 +137,7 @@ pub struct TrainSummary {
 
 /// Fit a model on the spec's sources without scoring or writing outputs.
 pub fn train(spec: &Spec) -> Result<TrainSummary> {
-    let loaded = sources::load(spec)?;
+    let loaded = sources::load(&spec.sources)?;
     let table = loaded.table;
     if table.len() < 2 {
         return Err(Error::Usage(format!(
@@ -170,7 +170,7 @@ pub fn train(spec: &Spec) -> Result<TrainSummary> {
 /// table order; see [`entities_from_truth`].
 pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<TrainSummary> {
     use std::sync::atomic::{AtomicU64, Ordering};
-    let loaded = sources::load(spec)?;
+    let loaded = sources::load(&spec.sources)?;
     let table = loaded.table;
     let entity = crate::evaluate::entities_from_truth(&table, truth);
     let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;

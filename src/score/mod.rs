@@ -86,10 +86,11 @@ impl<'a> PairScorer<'a> {
 mod tests {
     use super::*;
     use crate::compare::{Comparator, Comparison, MAX_ATTRS, MISSING_LEVEL};
+    use crate::compare::{CompareSpec, Level};
     use crate::decide::Decision;
     use crate::model::{AttrModel, Model, MODEL_VERSION};
     use crate::record::{Attr, RecordTable, RecordTableBuilder, StdRecord};
-    use crate::spec::{CompareSpec, DecideSpec, Level};
+    use crate::spec::DecideSpec;
 
     /// Two attributes, m and u invented so that the bits are easy to check by hand.
     fn model() -> Model {

@@ -9,7 +9,7 @@
 //! error naming the file and what would fix it.
 
 use std::io::Read;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::time::Duration;
 
 use rayon::prelude::*;
@@ -23,7 +23,6 @@ use crate::error::{Error, Result};
 use crate::record::{
     Attr, PassThroughHash, RecordBatch, RecordTable, RecordTableBuilder, StdRecord,
 };
-use crate::spec::{SourceSpec, Spec};
 use crate::standardize::{standardize, Conventions, StdStats};
 use crate::util::cpu::thread_cpu;
 use crate::util::Progress;
@@ -78,24 +77,56 @@ pub struct Loaded {
     pub standardize_cpu: Duration,
 }
 
-/// Read and standardize every source of `spec`.
-pub fn load(spec: &Spec) -> Result<Loaded> {
-    load_with(spec, &Progress::hidden())
+/// One source system (a `[[source]]` entry of the spec, validated).
+#[derive(Debug, Clone)]
+pub struct SourceSpec {
+    /// Short name, written to the crosswalk's `source` column.
+    pub name: String,
+    /// CSV path, resolved against the spec's folder.
+    pub path: PathBuf,
+    /// Header of the id column.
+    pub id_column: String,
+    /// Field delimiter of the CSV file (`,` unless the spec says otherwise).
+    pub delimiter: u8,
+    /// Character encoding of the CSV file (UTF-8 unless the spec says otherwise).
+    pub encoding: Encoding,
+    /// Country, date order and name order of the source.
+    pub conventions: Conventions,
+    /// Standard attribute → CSV header.
+    pub columns: Vec<(Attr, String)>,
+}
+
+impl SourceSpec {
+    /// True when the source maps a column that yields `attr` (full names yield both names).
+    pub fn provides(&self, attr: Attr) -> bool {
+        self.columns.iter().any(|(a, _)| {
+            *a == attr
+                || (*a == Attr::FullName && matches!(attr, Attr::GivenName | Attr::FamilyName))
+                || (*a == Attr::Street && attr == Attr::HouseNumber)
+                || (*a == Attr::Company && attr == Attr::LegalForm)
+                || (*a == Attr::Phone && attr == Attr::PhoneType)
+        })
+    }
+}
+
+/// Read and standardize every source, in the given order.
+pub fn load(sources: &[SourceSpec]) -> Result<Loaded> {
+    load_with(sources, &Progress::hidden())
 }
 
 /// [`load`], counting rows on `progress`.
-pub fn load_with(spec: &Spec, progress: &Progress) -> Result<Loaded> {
-    load_chunked(spec, progress, CHUNK, TASK_ROWS)
+pub fn load_with(sources: &[SourceSpec], progress: &Progress) -> Result<Loaded> {
+    load_chunked(sources, progress, CHUNK, TASK_ROWS)
 }
 
 /// [`load_with`] with explicit chunk sizes; the result does not depend on them.
 fn load_chunked(
-    spec: &Spec,
+    sources: &[SourceSpec],
     progress: &Progress,
     chunk_rows: usize,
     task_rows: usize,
 ) -> Result<Loaded> {
-    let names = spec.sources.iter().map(|s| s.name.clone()).collect();
+    let names = sources.iter().map(|s| s.name.clone()).collect();
     let mut builder = RecordTableBuilder::new(names);
     let mut rejects = Vec::new();
     let mut reports = Vec::new();
@@ -105,7 +136,7 @@ fn load_chunked(
         task_rows: task_rows.max(1),
         buffers: Default::default(),
     };
-    for (i, src) in spec.sources.iter().enumerate() {
+    for (i, src) in sources.iter().enumerate() {
         let report = load_source(
             src,
             i as u16,
@@ -593,6 +624,7 @@ fn find_column(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::spec::Spec;
     use std::io::Write;
 
     fn spec_for(dir: &Path, csv: &[u8]) -> Spec {
@@ -625,7 +657,7 @@ keys = ["family_name"]
         let mut data = b"\xef\xbb\xbfid,last,mail\n1,Smith,a@x.org\n2,Jones\n3,M\xfcller,m@x.org\n,Empty,e@x.org\n5,\"Quoted, Name\",q@x.org\n".to_vec();
         data.extend_from_slice(b"6,Brown,b@x.org\n");
         let spec = spec_for(dir.path(), &data);
-        let got = load(&spec).unwrap();
+        let got = load(&spec.sources).unwrap();
         assert_eq!(got.table.len(), 3);
         assert_eq!(got.table.id, vec!["1", "5", "6"]);
         let lines: Vec<u64> = got.rejects.iter().map(|r| r.line).collect();
@@ -661,7 +693,7 @@ keys = ["family_name"]
         // The row's bytes without delimiters are valid UTF-8 ("é"), its fields are not.
         let dir = tempfile::tempdir().unwrap();
         let spec = spec_for(dir.path(), b"id,last,mail\n1,Sm\xc3,\xa9@x.org\n2,Ok,\n");
-        let got = load(&spec).unwrap();
+        let got = load(&spec.sources).unwrap();
         assert_eq!(got.table.id, vec!["2"]);
         assert_eq!(got.rejects.len(), 1);
         assert!(
@@ -675,7 +707,7 @@ keys = ["family_name"]
     fn unknown_column_lists_headers() {
         let dir = tempfile::tempdir().unwrap();
         let spec = spec_for(dir.path(), b"id,surname,mail\n1,Smith,a@x.org\n");
-        let err = load(&spec).unwrap_err().to_string();
+        let err = load(&spec.sources).unwrap_err().to_string();
         assert!(err.contains("`last`") && err.contains("`surname`"), "{err}");
     }
 
@@ -683,7 +715,7 @@ keys = ["family_name"]
     fn duplicate_ids_are_an_error() {
         let dir = tempfile::tempdir().unwrap();
         let spec = spec_for(dir.path(), b"id,last,mail\n1,A,\n2,B,\n1,C,\n");
-        let err = load(&spec).unwrap_err().to_string();
+        let err = load(&spec.sources).unwrap_err().to_string();
         assert!(err.contains("`1` (lines 2 and 4)"), "{err}");
     }
 
@@ -691,7 +723,7 @@ keys = ["family_name"]
     fn empty_file_is_an_error() {
         let dir = tempfile::tempdir().unwrap();
         let spec = spec_for(dir.path(), b"");
-        let err = load(&spec).unwrap_err().to_string();
+        let err = load(&spec.sources).unwrap_err().to_string();
         assert!(err.contains("empty"), "{err}");
     }
 
@@ -700,7 +732,7 @@ keys = ["family_name"]
         let dir = tempfile::tempdir().unwrap();
         let spec = spec_for(dir.path(), b"id,last,mail\n");
         std::fs::remove_file(dir.path().join("a.csv")).unwrap();
-        let err = load(&spec).unwrap_err();
+        let err = load(&spec.sources).unwrap_err();
         assert!(err.is_bad_input());
         assert!(err.to_string().contains("a.csv"));
     }
@@ -758,7 +790,7 @@ keys = ["family_name"]
                 .num_threads(threads)
                 .build()
                 .unwrap()
-                .install(|| load_chunked(&spec, &Progress::hidden(), chunk, task))
+                .install(|| load_chunked(&spec.sources, &Progress::hidden(), chunk, task))
                 .unwrap()
         };
         // One row at a time on one thread is the plain sequential order.
@@ -808,7 +840,7 @@ keys = ["family_name"]
         }
         let spec = spec_for(dir.path(), &csv);
         for chunk in [1, 7, CHUNK] {
-            let err = load_chunked(&spec, &Progress::hidden(), chunk, 3)
+            let err = load_chunked(&spec.sources, &Progress::hidden(), chunk, 3)
                 .unwrap_err()
                 .to_string();
             assert!(

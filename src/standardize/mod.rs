@@ -75,6 +75,36 @@ pub enum NameOrder {
     FamilyFirst,
 }
 
+impl DateOrder {
+    /// The order named as in the spec (`ymd`, `dmy`, `mdy`).
+    pub fn from_name(name: &str) -> Option<DateOrder> {
+        match name {
+            "ymd" => Some(DateOrder::Ymd),
+            "dmy" => Some(DateOrder::Dmy),
+            "mdy" => Some(DateOrder::Mdy),
+            _ => None,
+        }
+    }
+}
+
+impl NameOrder {
+    /// The order named as in the spec (`given_first`, `family_first`).
+    pub fn from_name(name: &str) -> Option<NameOrder> {
+        match name {
+            "given_first" => Some(NameOrder::GivenFirst),
+            "family_first" => Some(NameOrder::FamilyFirst),
+            _ => None,
+        }
+    }
+}
+
+/// A source's default country as the spec writes it, upper-cased; `None` unless it has
+/// the shape of an ISO 3166 alpha-2 code (two ASCII letters).
+pub fn default_country(code: &str) -> Option<String> {
+    let c = code.trim().to_ascii_uppercase();
+    (c.len() == 2 && c.chars().all(|ch| ch.is_ascii_alphabetic())).then_some(c)
+}
+
 /// Per-source conventions declared in the spec.
 #[derive(Debug, Clone, Default)]
 pub struct Conventions {
