@@ -167,7 +167,7 @@ pub fn train(spec: &Spec) -> Result<TrainSummary> {
 /// m from the level frequencies among the candidate pairs that are true matches
 /// (smoothed like EM's m), u from the same random pairs as the unsupervised fit, and λ
 /// from the true matches among the candidates. `entity` gives each record's entity, in
-/// table order; see [`entities_from_truth`].
+/// table order; see [`crate::evaluate::entities_from_truth`].
 pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<TrainSummary> {
     use std::sync::atomic::{AtomicU64, Ordering};
     let loaded = sources::load(&spec.sources)?;
