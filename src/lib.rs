@@ -21,6 +21,7 @@ pub mod keys;
 pub mod model;
 pub mod output;
 pub mod pipeline;
+pub mod prepare;
 pub mod record;
 pub mod score;
 pub mod sources;

@@ -8,6 +8,10 @@
 //! recorded so that a person can look at it. Without guards this is plain transitive
 //! closure.
 
+use crate::compare::{Comparator, Comparison};
+use crate::record::RecordTable;
+use crate::spec::Spec;
+
 /// Rules a merge must not break.
 #[derive(Debug, Clone, Default)]
 pub struct Guards {
@@ -95,6 +99,101 @@ impl UnionFind {
             x = p;
         }
         x
+    }
+}
+
+/// The guards the spec's `[cluster]` section asks for, over `table`'s records.
+pub fn guards_of(spec: &Spec, table: &RecordTable) -> Guards {
+    let mut one = vec![false; spec.sources.len()];
+    for &i in &spec.cluster.one_record_per_source {
+        one[i] = true;
+    }
+    Guards {
+        max_size: spec.cluster.max_size,
+        one_per_source: one,
+        distinct: spec
+            .cluster
+            .unique
+            .iter()
+            .map(|a| table.column(*a).ids.clone())
+            .collect(),
+    }
+}
+
+/// The spec's guards with their compatibility rule: a unique attribute that is also
+/// compared conflicts only when its values reach no agreement level (so a birth date
+/// with day and month swapped does not block a merge); one that is not compared
+/// conflicts when the values differ.
+pub struct SpecGuards<'a> {
+    /// The guards.
+    pub guards: Guards,
+    /// Per unique attribute, its comparator if the attribute is compared.
+    comparators: Vec<Option<&'a Comparator>>,
+    /// Names of the unique attributes (for refusal reasons).
+    pub unique_names: Vec<String>,
+}
+
+impl<'a> SpecGuards<'a> {
+    /// The guards of `spec` over `table`, with `comparison`'s comparators.
+    pub fn new(spec: &Spec, table: &RecordTable, comparison: &'a Comparison) -> SpecGuards<'a> {
+        SpecGuards {
+            guards: guards_of(spec, table),
+            comparators: spec
+                .cluster
+                .unique
+                .iter()
+                .map(|a| comparison.comparators.iter().find(|c| c.attr == *a))
+                .collect(),
+            unique_names: spec
+                .cluster
+                .unique
+                .iter()
+                .map(|a| a.name().to_string())
+                .collect(),
+        }
+    }
+
+    /// May values `x` and `y` of unique attribute `k` belong to one person?
+    pub fn compatible(&self, k: usize, x: u32, y: u32) -> bool {
+        match self.comparators[k] {
+            Some(c) => c.level(x, y) != c.disagree(),
+            None => x == y,
+        }
+    }
+
+    /// Cluster `table`'s records from matched `edges` under these guards.
+    pub fn cluster(&self, table: &RecordTable, edges: &[Edge]) -> Clusters {
+        cluster_with(
+            table.len(),
+            edges,
+            &table.source,
+            &self.guards,
+            &|k, x, y| self.compatible(k, x, y),
+        )
+    }
+
+    /// Would a guard refuse to merge records `a` and `b` on their own (as two
+    /// one-record clusters)? The size limit is not checked here: it depends on the
+    /// clusters the records are in.
+    pub fn refuses_pair(&self, table: &RecordTable, a: u32, b: u32) -> Option<Refusal> {
+        let (sa, sb) = (table.source[a as usize], table.source[b as usize]);
+        if sa == sb
+            && self
+                .guards
+                .one_per_source
+                .get(sa as usize)
+                .copied()
+                .unwrap_or(false)
+        {
+            return Some(Refusal::SameSource);
+        }
+        for (k, ids) in self.guards.distinct.iter().enumerate() {
+            let (x, y) = (ids[a as usize], ids[b as usize]);
+            if x != 0 && y != 0 && !self.compatible(k, x, y) {
+                return Some(Refusal::Conflict(k));
+            }
+        }
+        None
     }
 }
 

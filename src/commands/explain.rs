@@ -3,7 +3,8 @@
 use std::path::PathBuf;
 
 use samekey::model::Model;
-use samekey::pipeline;
+use samekey::prepare::{PrepareOptions, Prepared};
+use samekey::score::{self, Explanation};
 use samekey::spec::Spec;
 
 use super::Global;
@@ -17,6 +18,13 @@ pub struct Args {
     /// The fitted model (e.g. OUT/model.toml of a `link` run).
     #[arg(long)]
     pub model: PathBuf,
+    /// Crosswalk for the records' customer keys [default: crosswalk.csv next to the
+    /// model file, when there is one].
+    #[arg(long)]
+    pub crosswalk: Option<PathBuf>,
+    /// Print the explanation as JSON.
+    #[arg(long)]
+    pub json: bool,
     /// First record as SOURCE:ID, e.g. crm:10482.
     #[arg(value_parser = parse_record)]
     pub a: (String, String),
@@ -35,44 +43,197 @@ fn parse_record(s: &str) -> Result<(String, String), String> {
 }
 
 /// Run `samekey explain`.
-pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
+pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
+    if args.a == args.b {
+        return Err(samekey::Error::Usage(format!(
+            "`{}:{}` was given twice; explain compares two different records",
+            args.a.0, args.a.1
+        ))
+        .into());
+    }
     let model = Model::load(&args.model, &spec)?;
-    let e = pipeline::explain(
+    let crosswalk_path = args.crosswalk.clone().or_else(|| {
+        let p = args.model.parent()?.join("crosswalk.csv");
+        p.exists().then_some(p)
+    });
+    let crosswalk = match &crosswalk_path {
+        Some(p) => Some(samekey::evaluate::read_crosswalk(p)?),
+        None => None,
+    };
+    let prepared = Prepared::new(
+        &spec,
+        PrepareOptions {
+            progress: !global.quiet && !args.json,
+            pair_limit: false,
+            purpose: "explaining",
+        },
+    )?;
+    let e = score::explain(
         &spec,
         &model,
+        &prepared,
         (&args.a.0, &args.a.1),
         (&args.b.0, &args.b.1),
+        crosswalk.as_ref(),
     )?;
-    println!("{}:{}  vs  {}:{}", args.a.0, args.a.1, args.b.0, args.b.1);
-    println!(
-        "{:<14} {:<28} {:<28} {:<22} {:>8}",
-        "attribute", "value a", "value b", "level", "bits"
+    if args.json {
+        println!("{}", serde_json::to_string_pretty(&to_json(&e))?);
+    } else if !global.quiet {
+        print!("{}", render(&e, crosswalk_path.is_some()));
+    }
+    Ok(())
+}
+
+/// Widest a value column may get; longer values are cut with `…`.
+const VALUE_WIDTH: usize = 40;
+
+/// `s` cut to `width` characters (with `…` when cut) and padded to `width`.
+pub fn fit(s: &str, width: usize) -> String {
+    let n = s.chars().count();
+    if n <= width {
+        format!("{s}{}", " ".repeat(width - n))
+    } else {
+        let mut t: String = s.chars().take(width.saturating_sub(1)).collect();
+        t.push('…');
+        t
+    }
+}
+
+/// The explanation as text: a table of attributes, then the numbers and verdicts.
+pub fn render(e: &Explanation, have_crosswalk: bool) -> String {
+    use std::fmt::Write;
+    let mut o = String::new();
+    let [ra, rb] = &e.records;
+    let key = |k: &Option<String>| match k {
+        Some(k) => k.clone(),
+        None if have_crosswalk => "not in the crosswalk".into(),
+        None => "unknown (no crosswalk; pass --crosswalk)".into(),
+    };
+    let _ = writeln!(
+        o,
+        "a  {}:{}  customer key {}",
+        ra.source,
+        ra.id,
+        key(&ra.customer_key)
+    );
+    let _ = writeln!(
+        o,
+        "b  {}:{}  customer key {}",
+        rb.source,
+        rb.id,
+        key(&rb.customer_key)
+    );
+    // Values come last, one line per record, so that a long value never pushes the
+    // other columns; values longer than VALUE_WIDTH are cut with `…`.
+    let _ = writeln!(
+        o,
+        "\n{:<14} {:<22} {:>9}  value (raw → standardized)",
+        "attribute", "level", "bits"
     );
     for a in &e.attrs {
-        println!(
-            "{:<14} {:<28} {:<28} {:<22} {:>+8.2}",
-            a.attribute,
-            a.value_a.as_deref().unwrap_or("-"),
-            a.value_b.as_deref().unwrap_or("-"),
-            a.level,
-            a.bits
+        let side = |i: usize| {
+            let raw = a.raw[i].as_deref().unwrap_or("-");
+            let std = a.standardized[i].as_deref().unwrap_or("-");
+            format!(
+                "{}  {} → {}",
+                ["a", "b"][i],
+                fit(raw, VALUE_WIDTH).trim_end(),
+                fit(std, VALUE_WIDTH).trim_end()
+            )
+        };
+        let _ = writeln!(
+            o,
+            "{} {} {:>+9.4}  {}",
+            fit(&a.attribute, 14),
+            fit(&a.level, 22),
+            a.bits,
+            side(0)
         );
+        let _ = writeln!(o, "{:<14} {:<22} {:>9}  {}", "", "", "", side(1));
     }
-    println!(
-        "evidence {:+.4} bits, prior {:+.4} bits, probability {:.6}, decision {}",
+    let fit_used = match &e.fit {
+        Some(k) => format!("the own fit of blocking key `{k}`"),
+        None => "the combined model".to_string(),
+    };
+    let _ = writeln!(
+        o,
+        "\nscored with {fit_used}: λ = {:.4e}, prior {:+.4} bits",
+        e.lambda, e.prior
+    );
+    let _ = writeln!(
+        o,
+        "evidence {:+.4} bits (sum of the bits above); prior + evidence = {:+.4} bits",
         e.evidence,
-        e.prior,
+        e.prior + e.evidence
+    );
+    let _ = writeln!(
+        o,
+        "probability {:.6}; decision {} ({})",
         e.probability,
-        e.decision.name()
+        e.decision.name(),
+        e.decider.describe()
     );
     if e.blocked_by.is_empty() {
-        println!("no blocking key puts these records together, so a run never compares them");
+        let _ = writeln!(
+            o,
+            "no blocking key puts these records together, so a run never compares them"
+        );
     } else {
-        println!(
+        let _ = writeln!(
+            o,
             "compared in a run through blocking key(s): {}",
             e.blocked_by.join(", ")
         );
     }
-    Ok(())
+    match &e.refused_by_guard {
+        Some(why) => {
+            let _ = writeln!(o, "a clustering guard refuses to merge them: {why}");
+        }
+        None => {
+            let _ = writeln!(o, "no clustering guard refuses to merge these two records");
+        }
+    }
+    o
+}
+
+/// The explanation as a JSON value.
+pub fn to_json(e: &Explanation) -> serde_json::Value {
+    use serde_json::json;
+    let rec = |r: &score::ExplainedRecord| json!({"source": r.source, "id": r.id, "customer_key": r.customer_key});
+    json!({
+        "records": [rec(&e.records[0]), rec(&e.records[1])],
+        "attributes": e.attrs.iter().map(|a| json!({
+            "attribute": a.attribute,
+            "raw_a": a.raw[0],
+            "raw_b": a.raw[1],
+            "standardized_a": a.standardized[0],
+            "standardized_b": a.standardized[1],
+            "level": a.level,
+            "bits": a.bits,
+        })).collect::<Vec<_>>(),
+        "fit": e.fit.as_ref().map_or("combined".to_string(), |k| format!("key:{k}")),
+        "lambda": e.lambda,
+        "prior_bits": e.prior,
+        "evidence_bits": e.evidence,
+        "probability": e.probability,
+        "decision": e.decision.name(),
+        "match_at": e.decider.match_at(),
+        "review_at": e.decider.review_at(),
+        "blocked_by": e.blocked_by,
+        "refused_by_guard": e.refused_by_guard,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn long_values_are_cut_and_short_ones_padded() {
+        assert_eq!(fit("abc", 5), "abc  ");
+        assert_eq!(fit("abcdefgh", 5), "abcd…");
+        assert_eq!(fit("Müller", 6), "Müller");
+        assert_eq!(fit("Müllerstraße", 6).chars().count(), 6);
+    }
 }

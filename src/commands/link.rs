@@ -3,7 +3,8 @@
 use std::path::PathBuf;
 
 use anyhow::Context;
-use samekey::pipeline::{self, PairsOutput, RunOptions};
+use samekey::output::PairsOutput;
+use samekey::pipeline::{self, RunOptions};
 use samekey::spec::Spec;
 
 use super::{summary, Global, Hint};

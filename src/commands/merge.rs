@@ -24,7 +24,7 @@ pub struct Args {
 /// Run `samekey merge`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
-    let s = pipeline::merge(&spec, &args.shards, &args.out)?;
+    let s = pipeline::merge(&spec, &args.shards, &args.out, !global.quiet)?;
     if !global.quiet {
         println!(
             "merged {} shard(s): {} matched pairs, {} records, {} customers, {} merges refused",

@@ -153,7 +153,7 @@ pub fn print_actual(
 }
 
 /// The time spent per stage, as a table.
-pub fn print_timings(t: &samekey::pipeline::Timings) {
+pub fn print_timings(t: &samekey::util::Timings) {
     println!("Timings");
     for (stage, d) in &t.stages {
         println!("  {:<24} {:>9.3} s", stage, d.as_secs_f64());

@@ -3,7 +3,9 @@
 use std::path::PathBuf;
 
 use samekey::model::train;
+use samekey::prepare::{PrepareOptions, Prepared};
 use samekey::spec::Spec;
+use samekey::util::Progress;
 
 use super::Global;
 
@@ -25,9 +27,21 @@ pub struct Args {
 /// Run `samekey train`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
-    let t = match &args.oracle_truth {
-        None => train::train(&spec)?,
-        Some(p) => train::train_oracle(&spec, &samekey::evaluate::read_truth(p)?)?,
+    let truth = match &args.oracle_truth {
+        Some(p) => Some(samekey::evaluate::read_truth(p)?),
+        None => None,
+    };
+    let prepared = Prepared::new(
+        &spec,
+        PrepareOptions {
+            progress: !global.quiet,
+            pair_limit: true,
+            purpose: "fitting",
+        },
+    )?;
+    let t = match &truth {
+        None => train::train(&spec, &prepared, &Progress::hidden())?,
+        Some(truth) => train::train_oracle(&spec, &prepared, truth)?,
     };
     t.model.save(&args.out)?;
     if !global.quiet {

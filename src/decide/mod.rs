@@ -11,6 +11,8 @@
 //! evidence, prior, probability and decision of one pair, all derived from the same
 //! rounded per-attribute bits that the output files show.
 
+use crate::compare::{Gamma, MAX_ATTRS};
+use crate::error::Result;
 use crate::spec::DecideSpec;
 
 /// What happens to a pair.
@@ -134,6 +136,54 @@ impl Scored {
     /// Posterior log2 odds, `prior + evidence`: what the thresholds are compared with.
     pub fn log2_odds(&self) -> f64 {
         self.prior + self.evidence
+    }
+}
+
+/// One scored candidate pair, as the sinks see it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ScoredPair {
+    /// First record (table index).
+    pub a: u32,
+    /// Second record.
+    pub b: u32,
+    /// The blocking key that produced the pair (`None`: scored with the combined model).
+    pub key: Option<usize>,
+    /// Level code per compared attribute.
+    pub gamma: Gamma,
+    /// Bits per compared attribute (rounded; the first `attrs` entries are used).
+    pub bits: [f64; MAX_ATTRS],
+    /// Evidence, prior, probability and decision.
+    pub scored: Scored,
+}
+
+impl ScoredPair {
+    /// The decision.
+    pub fn decision(&self) -> Decision {
+        self.scored.decision
+    }
+}
+
+/// Where scored pairs go. Chunks of pairs are collected in parallel into
+/// [`PairSink::Chunk`]s, then handed to the sink one by one in task order.
+pub trait PairSink {
+    /// Per-chunk buffer, filled on a worker thread.
+    type Chunk: Send + Default;
+    /// Take one scored pair into a chunk (on a worker thread).
+    fn add(&self, chunk: &mut Self::Chunk, pair: &ScoredPair);
+    /// Take a finished chunk (called in task order).
+    fn flush(&mut self, chunk: Self::Chunk) -> Result<()>;
+}
+
+/// Two sinks side by side: every pair goes to both.
+impl<A: PairSink + Sync, B: PairSink + Sync> PairSink for (A, B) {
+    type Chunk = (A::Chunk, B::Chunk);
+    fn add(&self, chunk: &mut Self::Chunk, pair: &ScoredPair) {
+        self.0.add(&mut chunk.0, pair);
+        self.1.add(&mut chunk.1, pair);
+    }
+    fn flush(&mut self, chunk: Self::Chunk) -> Result<()> {
+        self.0.flush(chunk.0)?;
+        self.1.flush(chunk.1)
     }
 }
 

@@ -12,9 +12,10 @@ use super::em::PatternCounts;
 use super::{KeyCounts, Model};
 use crate::block::{Blocking, Task};
 use crate::compare::Comparison;
-use crate::error::{Error, Result};
+use crate::error::Result;
+use crate::prepare::Prepared;
 use crate::record::RecordTable;
-use crate::sources::{self, SourceReport};
+use crate::sources::SourceReport;
 use crate::spec::Spec;
 use crate::util::Progress;
 
@@ -135,31 +136,20 @@ pub struct TrainSummary {
     pub sources: Vec<SourceReport>,
 }
 
-/// Fit a model on the spec's sources without scoring or writing outputs.
-pub fn train(spec: &Spec) -> Result<TrainSummary> {
-    let loaded = sources::load(&spec.sources)?;
-    let table = loaded.table;
-    if table.len() < 2 {
-        return Err(Error::Usage(format!(
-            "only {} usable record(s) were read; fitting needs at least two",
-            table.len()
-        )));
-    }
-    let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
-    let comparison = Comparison::new(&spec.compares, &table);
-    let tasks = blocking.tasks();
+/// Fit a model on a prepared run without scoring or writing outputs.
+pub fn train(spec: &Spec, prepared: &Prepared, progress: &Progress) -> Result<TrainSummary> {
     let counts = count_patterns(
         spec,
-        &table,
-        &blocking,
-        &comparison,
-        &tasks,
-        &Progress::hidden(),
+        &prepared.table,
+        &prepared.blocking,
+        &prepared.comparison,
+        &prepared.tasks,
+        progress,
     )?;
-    let model = fit_counts(spec, &table, &comparison, &counts)?;
+    let model = fit_counts(spec, &prepared.table, &prepared.comparison, &counts)?;
     Ok(TrainSummary {
         model,
-        sources: loaded.reports,
+        sources: prepared.reports.clone(),
     })
 }
 
@@ -168,14 +158,19 @@ pub fn train(spec: &Spec) -> Result<TrainSummary> {
 /// (smoothed like EM's m), u from the same random pairs as the unsupervised fit, and λ
 /// from the true matches among the candidates. `entity` gives each record's entity, in
 /// table order; see [`crate::evaluate::entities_from_truth`].
-pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<TrainSummary> {
+pub fn train_oracle(
+    spec: &Spec,
+    prepared: &Prepared,
+    truth: &crate::evaluate::Grouping,
+) -> Result<TrainSummary> {
     use std::sync::atomic::{AtomicU64, Ordering};
-    let loaded = sources::load(&spec.sources)?;
-    let table = loaded.table;
-    let entity = crate::evaluate::entities_from_truth(&table, truth);
-    let blocking = Blocking::build(&table, &spec.blocks, spec.model.max_pairs_per_key)?;
-    let comparison = Comparison::new(&spec.compares, &table);
-    let tasks = blocking.tasks();
+    let (table, blocking, comparison, tasks) = (
+        &prepared.table,
+        &prepared.blocking,
+        &prepared.comparison,
+        &prepared.tasks,
+    );
+    let entity = crate::evaluate::entities_from_truth(table, truth);
     let n_levels = comparison.n_levels();
     let n_keys = blocking.keys.len();
     // Level counts per key, per class (0 = true match, 1 = non-match), per attribute.
@@ -189,7 +184,7 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
             .collect()
     };
     let pair_counts: Vec<AtomicU64> = (0..2 * n_keys).map(|_| AtomicU64::new(0)).collect();
-    let parts: Vec<Counts> = crate::util::chunks(&tasks)
+    let parts: Vec<Counts> = crate::util::chunks(tasks)
         .into_par_iter()
         .map(|chunk| {
             let mut counts = empty();
@@ -199,7 +194,7 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
                 blocking.for_each_pair(task, |a, b| {
                     let class = usize::from(entity[a as usize] != entity[b as usize]);
                     seen[class] += 1;
-                    let g = comparison.gamma(&table, a, b, &mut scratch);
+                    let g = comparison.gamma(table, a, b, &mut scratch);
                     super::count_levels(&mut counts[task.key][class], &g);
                 });
                 pair_counts[2 * task.key].fetch_add(seen[0], Ordering::Relaxed);
@@ -224,8 +219,8 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
             .collect()
     };
     let (u, u_pairs) = super::estimate_u(
-        &table,
-        &comparison,
+        table,
+        comparison,
         spec.model.u_sample_pairs,
         spec.model.seed,
     );
@@ -292,7 +287,7 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
                 .collect()
         })
         .collect();
-    let attribute = super::attr_models(spec, &comparison, &m, &u);
+    let attribute = super::attr_models(spec, comparison, &m, &u);
     let warnings = super::level_warnings(&attribute);
     let fitted = Model {
         format: "samekey-model".into(),
@@ -310,6 +305,6 @@ pub fn train_oracle(spec: &Spec, truth: &crate::evaluate::Grouping) -> Result<Tr
     };
     Ok(TrainSummary {
         model: fitted,
-        sources: loaded.reports,
+        sources: prepared.reports.clone(),
     })
 }

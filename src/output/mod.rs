@@ -1,4 +1,7 @@
-//! Output: a finished run in, the files of the output contract out.
+//! Output: scored pairs, clusters and rejects in, the files of the output contract out.
+//!
+//! Every header of every output file is defined here and pinned by a snapshot test
+//! (`tests/contract.rs`). The pair writers implement [`crate::score::PairSink`].
 //!
 //! - `crosswalk.csv`: `source,source_id,customer_key`, one row per accepted record.
 //! - `pairs.csv`: [`PAIR_COLUMNS`] (`source_a,id_a,source_b,id_b,evidence_bits,
@@ -22,48 +25,20 @@
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-use crate::compare::Comparison;
 use crate::error::{Error, Result};
 use crate::sources::Reject;
 
-/// The first columns of `pairs.csv` and `review.csv`.
-pub const PAIR_COLUMNS: [&str; 8] = [
-    "source_a",
-    "id_a",
-    "source_b",
-    "id_b",
-    "evidence_bits",
-    "prior_bits",
-    "probability",
-    "decision",
-];
+mod crosswalk;
+mod pairs;
 
-/// The header of `pairs.csv`: [`PAIR_COLUMNS`], then `<attr>_level,<attr>_bits` per
-/// compared attribute.
-pub fn pairs_header(comparison: &Comparison) -> Vec<String> {
-    let mut h: Vec<String> = PAIR_COLUMNS.iter().map(|s| s.to_string()).collect();
-    for c in &comparison.comparators {
-        let n = c.attr.name();
-        h.extend([format!("{n}_level"), format!("{n}_bits")]);
-    }
-    h
-}
+pub use crosswalk::{
+    read_match_edges, write_crosswalk, write_refused, MatchEdges, CROSSWALK_COLUMNS,
+    REFUSED_COLUMNS,
+};
+pub use pairs::{pairs_header, review_header, PairsFile, PairsOutput, ReviewFile, PAIR_COLUMNS};
 
-/// The header of `review.csv`: [`PAIR_COLUMNS`], then `<attr>_level,<attr>_bits,
-/// <attr>_a,<attr>_b` per compared attribute.
-pub fn review_header(comparison: &Comparison) -> Vec<String> {
-    let mut h: Vec<String> = PAIR_COLUMNS.iter().map(|s| s.to_string()).collect();
-    for c in &comparison.comparators {
-        let n = c.attr.name();
-        h.extend([
-            format!("{n}_level"),
-            format!("{n}_bits"),
-            format!("{n}_a"),
-            format!("{n}_b"),
-        ]);
-    }
-    h
-}
+/// The header of `rejects.csv`.
+pub const REJECT_COLUMNS: [&str; 3] = ["source", "line", "reason"];
 
 /// Write `bytes` to `path` through a temporary file in the same folder and a rename.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
@@ -194,7 +169,7 @@ pub fn push_field(line: &mut String, value: &str) {
 
 /// Write `rejects.csv` rows.
 pub fn write_rejects(out: &mut CsvOut, rejects: &[Reject]) -> Result<()> {
-    out.row(&["source", "line", "reason"])?;
+    out.row(&REJECT_COLUMNS)?;
     for r in rejects {
         out.row(&[r.source.as_str(), &r.line.to_string(), r.reason.as_str()])?;
     }

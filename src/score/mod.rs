@@ -6,10 +6,25 @@
 //! call. Every number is rounded to [`BITS_DECIMALS`] decimals of a bit *before* it is
 //! added up, so the evidence is exactly the sum of the bits the outputs show, and the
 //! probability and decision follow from the prior and evidence shown.
+//!
+//! [`score_all`] scores every candidate pair of a [`Prepared`] run in parallel and hands
+//! each [`ScoredPair`] to a [`PairSink`]; the output files implement the sink
+//! (`crate::output`), so this module never writes a file. Chunks of block tasks are
+//! scored in parallel and given to the sink in task order, so what the sink sees does
+//! not depend on the number of threads.
 
-use crate::compare::Gamma;
-use crate::decide::{round_bits, Decider, Scored};
-use crate::model::Scorer;
+use rayon::prelude::*;
+
+use crate::compare::{Gamma, MAX_ATTRS};
+use crate::decide::{round_bits, Decider, Estimate, Scored, WeightHistogram};
+pub use crate::decide::{PairSink, ScoredPair};
+use crate::error::{Error, Result};
+use crate::model::{KeyCounts, Scorer};
+use crate::prepare::Prepared;
+use crate::util::Progress;
+
+mod explain;
+pub use explain::{explain, ExplainedAttr, ExplainedRecord, Explanation};
 
 #[cfg(doc)]
 use crate::decide::BITS_DECIMALS;
@@ -68,6 +83,30 @@ impl<'a> PairScorer<'a> {
         let evidence: f64 = (0..self.attrs)
             .map(|k| self.bits(key, k, gamma[k], a))
             .sum();
+        self.finish(key, evidence)
+    }
+
+    /// Score records `a` and `b` with comparison vector `gamma`: everything the output
+    /// files show about the pair.
+    #[inline]
+    pub fn score_pair(&self, key: Option<usize>, a: u32, b: u32, gamma: Gamma) -> ScoredPair {
+        let mut bits = [0.0; MAX_ATTRS];
+        let mut evidence = 0.0;
+        for (k, x) in bits.iter_mut().enumerate().take(self.attrs) {
+            *x = self.bits(key, k, gamma[k], a);
+            evidence += *x;
+        }
+        ScoredPair {
+            a,
+            b,
+            key,
+            gamma,
+            bits,
+            scored: self.finish(key, evidence),
+        }
+    }
+
+    fn finish(&self, key: Option<usize>, evidence: f64) -> Scored {
         // Summing rounded values can leave float noise in the last place; round again so
         // that the number kept is the number written.
         let evidence = round_bits(evidence);
@@ -80,6 +119,127 @@ impl<'a> PairScorer<'a> {
             decision: self.decider.decide(odds),
         }
     }
+}
+
+/// What scoring all candidate pairs counted.
+#[derive(Debug, Clone)]
+pub struct ScoreStats {
+    /// Pairs by posterior log2 odds with their probabilities (for the model's own
+    /// precision and recall estimates).
+    pub histogram: WeightHistogram,
+    /// Candidate pairs compared per blocking key.
+    pub per_key: Vec<u64>,
+    /// Pairs per decision, indexed by `Decision as usize`.
+    pub decisions: [u64; 3],
+}
+
+impl ScoreStats {
+    fn new(keys: usize) -> ScoreStats {
+        ScoreStats {
+            histogram: WeightHistogram::default(),
+            per_key: vec![0; keys],
+            decisions: [0; 3],
+        }
+    }
+
+    fn merge(&mut self, other: &ScoreStats) {
+        self.histogram.merge(&other.histogram);
+        for (t, p) in self.per_key.iter_mut().zip(&other.per_key) {
+            *t += p;
+        }
+        for (t, d) in self.decisions.iter_mut().zip(other.decisions) {
+            *t += d;
+        }
+    }
+
+    /// The model's estimate of precision and recall at the match threshold of `decider`.
+    pub fn estimate(&self, decider: &Decider) -> Estimate {
+        self.histogram.estimate(decider.upper)
+    }
+}
+
+/// Score every candidate pair of `prepared`'s tasks, hand the pairs to `sink` in task
+/// order, and count them. `progress` counts pairs enumerated.
+pub fn score_all<S: PairSink + Sync>(
+    prepared: &Prepared,
+    scorer: &PairScorer,
+    sink: &mut S,
+    progress: &Progress,
+) -> Result<ScoreStats> {
+    let (table, blocking, comparison) = (&prepared.table, &prepared.blocking, &prepared.comparison);
+    let keys = blocking.keys.len();
+    let mut total = ScoreStats::new(keys);
+    let all_chunks = crate::util::chunks(&prepared.tasks);
+    // Waves bound the memory held by chunks waiting to be handed over in order.
+    let wave = rayon::current_num_threads().max(1) * 4;
+    for group in all_chunks.chunks(wave) {
+        let parts: Vec<(ScoreStats, S::Chunk)> = {
+            let sink = &*sink;
+            group
+                .par_iter()
+                .map(|chunk| {
+                    let mut stats = ScoreStats::new(keys);
+                    let mut buf = S::Chunk::default();
+                    let mut scratch = comparison.scratch();
+                    for task in chunk.iter() {
+                        blocking.for_each_pair(task, |a, b| {
+                            stats.per_key[task.key] += 1;
+                            let g = comparison.gamma(table, a, b, &mut scratch);
+                            let p = scorer.score_pair(Some(task.key), a, b, g);
+                            let s = &p.scored;
+                            stats.histogram.add(s.log2_odds(), s.probability, 1);
+                            stats.decisions[s.decision as usize] += 1;
+                            sink.add(&mut buf, &p);
+                        });
+                        progress.inc(prepared.task_pairs(task));
+                    }
+                    (stats, buf)
+                })
+                .collect()
+        };
+        for (stats, buf) in parts {
+            total.merge(&stats);
+            sink.flush(buf)?;
+        }
+    }
+    Ok(total)
+}
+
+/// `decider` with its match threshold moved to where the model's estimated precision
+/// reaches `target`, estimated from the comparison vector counts of pass 1
+/// (value-frequency adjustments left out). The review threshold is lowered to the match
+/// threshold if it was above it.
+pub fn threshold_for_target(
+    decider: &Decider,
+    scorer: &Scorer,
+    counts: &[KeyCounts],
+    target: f64,
+) -> Result<Decider> {
+    let mut h = WeightHistogram::default();
+    for (k, key) in counts.iter().enumerate() {
+        let prior = scorer.prior(Some(k));
+        for (codes, n) in key.counts.iter() {
+            let mut g = [crate::compare::MISSING_LEVEL; MAX_ATTRS];
+            g[..codes.len()].copy_from_slice(&codes);
+            // No record index: frequency adjustments need one, so use the plain weights.
+            let w: f64 = (0..codes.len())
+                .map(|a| scorer.contribution_plain(Some(k), a, g[a]))
+                .sum();
+            h.add(decider.score(w, prior), Decider::probability(w, prior), n);
+        }
+    }
+    let Some(upper) = h.threshold_for_precision(target) else {
+        let best = h.estimate(f64::INFINITY);
+        return Err(Error::Usage(format!(
+            "no match threshold reaches an estimated precision of {target}; the strictest \
+             threshold gives {:.4}. Lower --target-precision",
+            best.precision
+        )));
+    };
+    Ok(Decider {
+        upper,
+        lower: decider.lower.min(upper),
+    })
 }
 
 #[cfg(test)]

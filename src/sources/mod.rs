@@ -428,6 +428,62 @@ fn load_source(
     Ok(report)
 }
 
+/// The raw (not yet standardized) mapped values of the row with id `id` in source
+/// `src`, as written in the file (trimmed), or `None` when no usable row has that id.
+/// Reads the file from the start; meant for looking at single records (`explain`).
+pub fn raw_values(src: &SourceSpec, id: &str) -> Result<Option<Vec<(Attr, String)>>> {
+    let path = src.path.as_path();
+    let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut reader = csv::ReaderBuilder::new()
+        .flexible(true)
+        .has_headers(true)
+        .delimiter(src.delimiter)
+        .from_reader(std::io::BufReader::new(decoded(file, src.encoding)));
+    let headers = read_headers(&mut reader, path)?;
+    let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;
+    let mut mapped: Vec<(Attr, usize)> = Vec::new();
+    for (attr, header) in &src.columns {
+        let at = find_column(&headers, header, path, &src.name, attr.name())?;
+        mapped.push((*attr, at));
+    }
+    let mut input = SourceReader {
+        src,
+        reader,
+        headers,
+        id_at,
+        mapped,
+        record: csv::ByteRecord::new(),
+        report: SourceReport::default(),
+        rejects: Vec::new(),
+        done: false,
+        file_bytes: 0,
+    };
+    let n = input.mapped.len();
+    let attrs: Vec<Attr> = input.mapped.iter().map(|&(a, _)| a).collect();
+    let mut chunk = RawChunk::default();
+    loop {
+        chunk = input.read_chunk(4096, chunk);
+        if chunk.rows() == 0 {
+            return Ok(None);
+        }
+        for row in 0..chunk.rows() {
+            let span = |i: usize| {
+                let (a, b) = chunk.spans[row * (1 + n) + i];
+                &chunk.text[a..b]
+            };
+            if span(0) == id {
+                return Ok(Some(
+                    attrs
+                        .iter()
+                        .enumerate()
+                        .map(|(k, a)| (*a, span(1 + k).to_string()))
+                        .collect(),
+                ));
+            }
+        }
+    }
+}
+
 /// Ids seen before in `ids` (with the line of the first occurrence and the repeat's
 /// line), in order of the repeats.
 ///

@@ -4,9 +4,11 @@
 pub mod cpu;
 pub mod progress;
 pub mod rng;
+pub mod timings;
 
 pub use progress::Progress;
 pub use rng::{mix64, stable_hash, MixHasher, Rng};
+pub use timings::Timings;
 
 /// Cut `items` into this many chunks per thread for load balance.
 const CHUNKS_PER_THREAD: usize = 16;
