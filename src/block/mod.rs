@@ -16,11 +16,10 @@
 
 use rustc_hash::FxHashMap as HashMap;
 
-use rphonetic::{Encoder, Soundex};
-
 use crate::error::{Error, Result};
 use crate::record::{Attr, Column, RecordTable, MISSING};
-use crate::standardize::{fold_ascii, fold_for_comparison};
+use crate::compare::strings::soundex_of_value;
+use crate::standardize::fold_for_comparison;
 
 mod key;
 pub use key::{BlockSpec, KeyFn, KeyPart, KEY_HELP};
@@ -228,7 +227,6 @@ impl Blocking {
 /// Derived key value per column value id (`NO_KEY` for missing or empty results), and
 /// the distinct derived strings.
 fn derive(column: &Column, func: KeyFn) -> (Vec<u32>, Vec<String>) {
-    let soundex = Soundex::default();
     let mut lookup: HashMap<String, u32> = HashMap::default();
     let mut values = Vec::new();
     let ids = column
@@ -239,7 +237,7 @@ fn derive(column: &Column, func: KeyFn) -> (Vec<u32>, Vec<String>) {
             if id as u32 == MISSING {
                 return NO_KEY;
             }
-            let derived = key_value(value, func, &soundex);
+            let derived = key_value(value, func);
             match derived {
                 None => NO_KEY,
                 Some(d) => *lookup.entry(d).or_insert_with_key(|d| {
@@ -253,19 +251,10 @@ fn derive(column: &Column, func: KeyFn) -> (Vec<u32>, Vec<String>) {
 }
 
 /// The key value of one standardized value under `func`; `None` when it gives nothing.
-pub fn key_value(value: &str, func: KeyFn, soundex: &Soundex) -> Option<String> {
+pub fn key_value(value: &str, func: KeyFn) -> Option<String> {
     let out = match func {
         KeyFn::Value => value.to_string(),
-        KeyFn::Soundex => {
-            let folded: String = fold_ascii(value)
-                .chars()
-                .filter(|c| c.is_ascii_alphabetic())
-                .collect();
-            if folded.is_empty() {
-                return None;
-            }
-            soundex.encode(&folded)
-        }
+        KeyFn::Soundex => soundex_of_value(value)?,
         KeyFn::Prefix(n) => fold_for_comparison(value)
             .chars()
             .filter(|c| !c.is_whitespace())
@@ -574,38 +563,43 @@ mod tests {
 
     #[test]
     fn key_functions() {
-        let s = Soundex::default();
         // American Soundex of "Tymczak" is T522 (National Archives, "The Soundex Indexing System").
         assert_eq!(
-            key_value("Tymczak", KeyFn::Soundex, &s).as_deref(),
+            key_value("Tymczak", KeyFn::Soundex).as_deref(),
             Some("T522")
         );
         assert_eq!(
-            key_value("müller", KeyFn::Soundex, &s).as_deref(),
+            key_value("müller", KeyFn::Soundex).as_deref(),
             Some("M460")
         );
         assert_eq!(
-            key_value("sw1a 1aa", KeyFn::Prefix(4), &s).as_deref(),
+            key_value("sw1a 1aa", KeyFn::Prefix(4)).as_deref(),
             Some("sw1a")
         );
         assert_eq!(
-            key_value("Elodie", KeyFn::Initial, &s).as_deref(),
+            key_value("Elodie", KeyFn::Initial).as_deref(),
             Some("e")
         );
         assert_eq!(
-            key_value("1984-02-03", KeyFn::Year, &s).as_deref(),
+            key_value("1984-02-03", KeyFn::Year).as_deref(),
             Some("1984")
         );
-        assert_eq!(key_value("--", KeyFn::Soundex, &s), None);
+        assert_eq!(key_value("--", KeyFn::Soundex), None);
         // Other scripts: prefix and initial as written; Soundex has no code for them.
         assert_eq!(
-            key_value("петров", KeyFn::Prefix(3), &s).as_deref(),
+            key_value("петров", KeyFn::Prefix(3)).as_deref(),
             Some("пет")
         );
         assert_eq!(
-            key_value("Петров", KeyFn::Initial, &s).as_deref(),
+            key_value("Петров", KeyFn::Initial).as_deref(),
             Some("п")
         );
-        assert_eq!(key_value("петров", KeyFn::Soundex, &s), None);
+        assert_eq!(key_value("петров", KeyFn::Soundex), None);
+        // A value mixing scripts: the Latin letters, folded, as in the comparison's
+        // soundex level (compare::tests::soundex_level_agrees_with_the_blocking_key).
+        assert_eq!(
+            key_value("Ösen Иван", KeyFn::Soundex).as_deref(),
+            Some("O250")
+        );
     }
 }

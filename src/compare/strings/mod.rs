@@ -12,6 +12,7 @@
 //! | [`levenshtein`], [`levenshtein_within`] | edit distance (optionally bounded) | `strsim::levenshtein` |
 //! | [`osa_distance`] | edit distance with adjacent swaps | `strsim::osa_distance` |
 //! | [`soundex`] | American Soundex code | `rphonetic` on ASCII input |
+//! | [`soundex_of_value`] | the code of a standardized value (folded first) | the one blocking and comparison use |
 //!
 //! All comparators work on Unicode scalar values (`char`s), as strsim does, with a byte
 //! fast path when both strings are ASCII and word-level bit parallelism when the pattern side
@@ -27,4 +28,4 @@ pub use jaro::{
     jaro, jaro_winkler, JaroCorpus, JaroMatcher, WINKLER_BOOST_THRESHOLD, WINKLER_MAX_PREFIX,
     WINKLER_PREFIX_SCALE,
 };
-pub use soundex::soundex;
+pub use soundex::{soundex, soundex_of_value};

@@ -71,6 +71,22 @@ pub fn soundex(name: &str) -> String {
     code.iter().map(|&b| char::from(b)).collect()
 }
 
+/// The Soundex code of a standardized value as blocking keys and comparison levels both
+/// use it: ASCII-folded by [`fold_ascii`](crate::standardize::fold_ascii) (`Müller` ->
+/// `muller`, letters of other scripts dropped), then [`soundex`]. `None` when no ASCII
+/// letter is left. One function for both stages, so a value gets the same code in a
+/// blocking key and in a comparison.
+///
+/// ```
+/// use samekey::compare::strings::soundex_of_value;
+/// assert_eq!(soundex_of_value("Müller").as_deref(), Some("M460"));
+/// assert_eq!(soundex_of_value("Петров"), None);
+/// ```
+pub fn soundex_of_value(value: &str) -> Option<String> {
+    let code = soundex(&crate::standardize::fold_ascii(value));
+    (!code.is_empty()).then_some(code)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -138,6 +154,16 @@ mod tests {
         assert_eq!(soundex(""), "");
         // jellyfish 1.3.0 gives M460 for "Müller" (CHECK_VALUES §2); skipping ü gives the same.
         assert_eq!(soundex("Müller"), "M460");
+    }
+
+    #[test]
+    fn values_are_folded_before_coding() {
+        // "Ösen" folds to "osen": O250 (computed by hand from the NARA rules above).
+        assert_eq!(soundex_of_value("Ösen").as_deref(), Some("O250"));
+        // A value mixing scripts keeps its Latin letters, folded: the same code as "Ösen".
+        assert_eq!(soundex_of_value("Ösen Иван").as_deref(), Some("O250"));
+        assert_eq!(soundex_of_value("Иван"), None);
+        assert_eq!(soundex_of_value("--"), None);
     }
 
     #[test]
