@@ -3,6 +3,11 @@
 //! Every variant says what is wrong and where (file, line, column or spec key); the
 //! binary adds a `hint:` line where it can. [`Error::is_bad_input`] separates errors
 //! caused by the user's input (exit code 2) from internal failures (exit code 1).
+//!
+//! The category follows from the variant, so it is decided where the error is made:
+//! reading an input ([`Error::Io`], [`Error::Csv`]) can be the input's fault; writing an
+//! output ([`Error::Write`]) or a broken promise between two parts of samekey
+//! ([`Error::Internal`]) never is.
 
 use std::path::PathBuf;
 
@@ -56,7 +61,8 @@ pub enum Error {
         /// The largest blocks and how to tighten the key.
         detail: String,
     },
-    /// Reading or writing a file failed.
+    /// Opening or reading an input file failed. Bad input when the file is missing or
+    /// not readable for the user; otherwise (a failing disk) internal.
     #[error("`{path}`")]
     Io {
         /// File involved.
@@ -65,7 +71,17 @@ pub enum Error {
         #[source]
         source: std::io::Error,
     },
-    /// A CSV file could not be read or written.
+    /// Writing an output failed (disk full, file-size limit, device error): not caused
+    /// by the input, so an internal failure (exit code 1).
+    #[error("cannot write `{path}`")]
+    Write {
+        /// File or folder being written.
+        path: PathBuf,
+        /// Underlying error.
+        #[source]
+        source: std::io::Error,
+    },
+    /// An input CSV file could not be read (malformed CSV, invalid header).
     #[error("`{path}`")]
     Csv {
         /// File involved.
@@ -74,7 +90,8 @@ pub enum Error {
         #[source]
         source: csv::Error,
     },
-    /// A bug or an impossible state.
+    /// A bug or an impossible state: one part of samekey broke a promise to another
+    /// (for example pattern counts that do not fit the levels the fit was given).
     #[error("internal error: {0}")]
     Internal(String),
 }
@@ -94,7 +111,7 @@ impl Error {
                 std::io::ErrorKind::NotFound | std::io::ErrorKind::PermissionDenied
             ),
             Error::Csv { .. } => true,
-            Error::Internal(_) => false,
+            Error::Write { .. } | Error::Internal(_) => false,
         }
     }
 
@@ -103,6 +120,22 @@ impl Error {
         Error::Io {
             path: path.into(),
             source,
+        }
+    }
+
+    /// Wrap a failure to write an output with the path it happened on.
+    pub fn write(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
+        Error::Write {
+            path: path.into(),
+            source,
+        }
+    }
+
+    /// Wrap a failure of a CSV writer: always a failure to write `path`.
+    pub fn write_csv(path: impl Into<PathBuf>, source: csv::Error) -> Self {
+        Error::Write {
+            path: path.into(),
+            source: source.into(),
         }
     }
 
@@ -125,5 +158,35 @@ impl Error {
             file: file.into(),
             message: message.into(),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::io::ErrorKind;
+
+    #[test]
+    fn the_category_follows_the_cause() {
+        let io = |k: ErrorKind| std::io::Error::from(k);
+        assert!(Error::io("in.csv", io(ErrorKind::NotFound)).is_bad_input());
+        assert!(Error::io("in.csv", io(ErrorKind::PermissionDenied)).is_bad_input());
+        assert!(!Error::io("in.csv", io(ErrorKind::Other)).is_bad_input());
+        // Writing never blames the input, whatever the OS says.
+        for k in [
+            ErrorKind::NotFound,
+            ErrorKind::PermissionDenied,
+            ErrorKind::StorageFull,
+        ] {
+            assert!(
+                !Error::write("out/pairs.csv", io(k)).is_bad_input(),
+                "{k:?}"
+            );
+        }
+        let csv_write = csv::Error::from(io(ErrorKind::StorageFull));
+        assert!(!Error::write_csv("out/a.csv", csv_write).is_bad_input());
+        assert!(!Error::Internal("x".into()).is_bad_input());
+        assert!(Error::spec("s.toml", "version", "x").is_bad_input());
+        assert!(Error::Usage("x".into()).is_bad_input());
     }
 }

@@ -17,5 +17,10 @@ fn main() -> ExitCode {
     unsafe {
         libc::signal(libc::SIGPIPE, libc::SIG_DFL);
     }
-    commands::main()
+    // A panic is a bug: like every internal failure it exits with code 1 (the panic
+    // message is already printed by the default hook), never with Rust's 101.
+    std::panic::catch_unwind(commands::main).unwrap_or_else(|_| {
+        eprintln!("error: internal error: samekey stopped on a bug; please report it with the message above");
+        ExitCode::from(1)
+    })
 }

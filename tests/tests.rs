@@ -4,6 +4,7 @@ mod bad_input;
 mod common;
 mod contract;
 mod evaluate;
+mod exit_codes;
 mod link;
 mod module_graph;
 mod tricky;

@@ -16,9 +16,9 @@
 
 use rustc_hash::FxHashMap as HashMap;
 
+use crate::compare::strings::soundex_of_value;
 use crate::error::{Error, Result};
 use crate::record::{Attr, Column, RecordTable, MISSING};
-use crate::compare::strings::soundex_of_value;
 use crate::standardize::fold_for_comparison;
 
 mod key;
@@ -568,18 +568,12 @@ mod tests {
             key_value("Tymczak", KeyFn::Soundex).as_deref(),
             Some("T522")
         );
-        assert_eq!(
-            key_value("müller", KeyFn::Soundex).as_deref(),
-            Some("M460")
-        );
+        assert_eq!(key_value("müller", KeyFn::Soundex).as_deref(), Some("M460"));
         assert_eq!(
             key_value("sw1a 1aa", KeyFn::Prefix(4)).as_deref(),
             Some("sw1a")
         );
-        assert_eq!(
-            key_value("Elodie", KeyFn::Initial).as_deref(),
-            Some("e")
-        );
+        assert_eq!(key_value("Elodie", KeyFn::Initial).as_deref(), Some("e"));
         assert_eq!(
             key_value("1984-02-03", KeyFn::Year).as_deref(),
             Some("1984")
@@ -590,10 +584,7 @@ mod tests {
             key_value("петров", KeyFn::Prefix(3)).as_deref(),
             Some("пет")
         );
-        assert_eq!(
-            key_value("Петров", KeyFn::Initial).as_deref(),
-            Some("п")
-        );
+        assert_eq!(key_value("Петров", KeyFn::Initial).as_deref(), Some("п"));
         assert_eq!(key_value("петров", KeyFn::Soundex), None);
         // A value mixing scripts: the Latin letters, folded, as in the comparison's
         // soundex level (compare::tests::soundex_level_agrees_with_the_blocking_key).

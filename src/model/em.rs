@@ -123,7 +123,7 @@ impl PatternCounts {
         let total = self
             .total
             .checked_add(count)
-            .ok_or_else(|| Error::Usage("pattern count overflows 64 bits".into()))?;
+            .ok_or_else(|| Error::Internal("pattern count overflows 64 bits".into()))?;
         self.total = total;
         match &self.bits {
             Some(bits) => {
@@ -143,7 +143,7 @@ impl PatternCounts {
 
     fn check(&self, codes: &[u8]) -> Result<()> {
         if codes.len() != self.n_levels.len() {
-            return Err(Error::Usage(format!(
+            return Err(Error::Internal(format!(
                 "comparison vector has {} attributes, expected {}",
                 codes.len(),
                 self.n_levels.len()
@@ -151,7 +151,7 @@ impl PatternCounts {
         }
         for (k, (&c, &l)) in codes.iter().zip(&self.n_levels).enumerate() {
             if c != MISSING_LEVEL && c as usize >= l {
-                return Err(Error::Usage(format!(
+                return Err(Error::Internal(format!(
                     "attribute {k}: level {c} is out of range (levels 0..{l}, or missing)"
                 )));
             }
@@ -164,7 +164,7 @@ impl PatternCounts {
     /// Fails when the two were made for different attribute levels.
     pub fn merge(&mut self, other: PatternCounts) -> Result<()> {
         if other.n_levels != self.n_levels {
-            return Err(Error::Usage(format!(
+            return Err(Error::Internal(format!(
                 "cannot merge pattern counts for levels {:?} into counts for levels {:?}",
                 other.n_levels, self.n_levels
             )));
@@ -172,7 +172,7 @@ impl PatternCounts {
         self.total = self
             .total
             .checked_add(other.total)
-            .ok_or_else(|| Error::Usage("pattern count overflows 64 bits".into()))?;
+            .ok_or_else(|| Error::Internal("pattern count overflows 64 bits".into()))?;
         // Same levels, so the same storage mode.
         for (k, c) in other.packed {
             *self.packed.entry(k).or_insert(0) += c;
@@ -285,13 +285,13 @@ impl Params {
     /// in [0, 1] summing to 1 (within 1e-6).
     pub fn validate(&self) -> Result<()> {
         if !(self.lambda > 0.0 && self.lambda < 1.0) {
-            return Err(Error::Usage(format!(
+            return Err(Error::Internal(format!(
                 "λ must lie strictly between 0 and 1, got {}",
                 self.lambda
             )));
         }
         if self.m.len() != self.u.len() {
-            return Err(Error::Usage(format!(
+            return Err(Error::Internal(format!(
                 "m has {} attributes but u has {}",
                 self.m.len(),
                 self.u.len()
@@ -299,27 +299,27 @@ impl Params {
         }
         for (k, (m, u)) in self.m.iter().zip(&self.u).enumerate() {
             if m.len() != u.len() {
-                return Err(Error::Usage(format!(
+                return Err(Error::Internal(format!(
                     "attribute {k}: m has {} levels but u has {}",
                     m.len(),
                     u.len()
                 )));
             }
             if m.is_empty() || m.len() > MAX_LEVELS {
-                return Err(Error::Usage(format!(
+                return Err(Error::Internal(format!(
                     "attribute {k}: {} levels (allowed 1..={MAX_LEVELS})",
                     m.len()
                 )));
             }
             for (name, row) in [("m", m), ("u", u)] {
                 if let Some(p) = row.iter().find(|p| !(0.0..=1.0).contains(*p)) {
-                    return Err(Error::Usage(format!(
+                    return Err(Error::Internal(format!(
                         "attribute {k}: {name} has probability {p} outside [0, 1]"
                     )));
                 }
                 let s: f64 = row.iter().sum();
                 if (s - 1.0).abs() > 1e-6 {
-                    return Err(Error::Usage(format!(
+                    return Err(Error::Internal(format!(
                         "attribute {k}: {name} sums to {s}, expected 1"
                     )));
                 }
@@ -639,8 +639,8 @@ pub struct EmFit {
 
 /// Fit λ, m and u by EM on pattern counts, starting from `init`.
 ///
-/// Errors (all [`Error::Usage`]): no data, parameters that do not match the data's
-/// levels or are invalid, or invalid options.
+/// Errors (all [`Error::Internal`]: the callers promise valid inputs): no data,
+/// parameters that do not match the data's levels or are invalid, or invalid options.
 pub fn fit(data: &PatternCounts, init: &Params, opts: &EmOptions) -> Result<EmFit> {
     check_inputs(data, init, opts)?;
     let table = Dense::new(data);
@@ -700,13 +700,13 @@ pub fn fit(data: &PatternCounts, init: &Params, opts: &EmOptions) -> Result<EmFi
 
 fn check_inputs(data: &PatternCounts, init: &Params, opts: &EmOptions) -> Result<()> {
     if data.total() == 0 {
-        return Err(Error::Usage(
+        return Err(Error::Internal(
             "EM needs at least one counted comparison vector".into(),
         ));
     }
     init.validate()?;
     if init.n_levels() != data.n_levels() {
-        return Err(Error::Usage(format!(
+        return Err(Error::Internal(format!(
             "starting parameters have levels {:?} but the data has levels {:?}",
             init.n_levels(),
             data.n_levels()
@@ -714,13 +714,13 @@ fn check_inputs(data: &PatternCounts, init: &Params, opts: &EmOptions) -> Result
     }
     let max_levels = data.n_levels().iter().copied().max().unwrap_or(1);
     if !(opts.floor > 0.0 && opts.floor * (max_levels as f64) < 1.0) {
-        return Err(Error::Usage(format!(
+        return Err(Error::Internal(format!(
             "floor must be > 0 and below 1/{max_levels}, got {}",
             opts.floor
         )));
     }
     if !(opts.smoothing >= 0.0 && opts.smoothing.is_finite()) {
-        return Err(Error::Usage(format!(
+        return Err(Error::Internal(format!(
             "smoothing must be a finite number ≥ 0, got {}",
             opts.smoothing
         )));
@@ -731,18 +731,18 @@ fn check_inputs(data: &PatternCounts, init: &Params, opts: &EmOptions) -> Result
         ));
     }
     if opts.rel_tol_loglik.is_nan() || opts.param_tol.is_nan() {
-        return Err(Error::Usage("tolerances must be numbers".into()));
+        return Err(Error::Internal("tolerances must be numbers".into()));
     }
     if let Some(a) = &opts.active {
         if a.len() != data.n_levels().len() {
-            return Err(Error::Usage(format!(
+            return Err(Error::Internal(format!(
                 "active has {} entries for {} attributes",
                 a.len(),
                 data.n_levels().len()
             )));
         }
         if !a.iter().any(|&x| x) {
-            return Err(Error::Usage("no attribute is active".into()));
+            return Err(Error::Internal("no attribute is active".into()));
         }
     }
     Ok(())

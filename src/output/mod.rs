@@ -52,10 +52,10 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
     let tmp = dir.join(format!(".{name}.tmp-{}", std::process::id()));
-    std::fs::write(&tmp, bytes).map_err(|e| Error::io(&tmp, e))?;
+    std::fs::write(&tmp, bytes).map_err(|e| Error::write(&tmp, e))?;
     std::fs::rename(&tmp, path).map_err(|e| {
         let _ = std::fs::remove_file(&tmp);
-        Error::io(path, e)
+        Error::write(path, e)
     })
 }
 
@@ -75,7 +75,7 @@ impl Staging {
         if dir.exists() {
             std::fs::remove_dir_all(&dir).map_err(|e| Error::io(&dir, e))?;
         }
-        std::fs::create_dir(&dir).map_err(|e| Error::io(&dir, e))?;
+        std::fs::create_dir(&dir).map_err(|e| Error::write(&dir, e))?;
         Ok(Staging {
             out: out.to_path_buf(),
             dir,
@@ -94,7 +94,7 @@ impl Staging {
     /// A buffered CSV writer for the staged file `name`.
     pub fn csv(&mut self, name: &str) -> Result<CsvOut> {
         let path = self.path(name);
-        let file = std::fs::File::create(&path).map_err(|e| Error::io(&path, e))?;
+        let file = std::fs::File::create(&path).map_err(|e| Error::write(&path, e))?;
         Ok(CsvOut {
             path,
             w: std::io::BufWriter::with_capacity(1 << 20, file),
@@ -107,10 +107,10 @@ impl Staging {
         for f in &self.files {
             let from = self.dir.join(f);
             let to = self.out.join(f);
-            std::fs::rename(&from, &to).map_err(|e| Error::io(&to, e))?;
+            std::fs::rename(&from, &to).map_err(|e| Error::write(&to, e))?;
             done.push(to);
         }
-        std::fs::remove_dir_all(&self.dir).map_err(|e| Error::io(&self.dir, e))?;
+        std::fs::remove_dir_all(&self.dir).map_err(|e| Error::write(&self.dir, e))?;
         Ok(done)
     }
 }
@@ -147,12 +147,12 @@ impl CsvOut {
     pub fn raw(&mut self, bytes: &[u8]) -> Result<()> {
         self.w
             .write_all(bytes)
-            .map_err(|e| Error::io(&self.path, e))
+            .map_err(|e| Error::write(&self.path, e))
     }
 
     /// Flush to disk.
     pub fn finish(mut self) -> Result<()> {
-        self.w.flush().map_err(|e| Error::io(&self.path, e))
+        self.w.flush().map_err(|e| Error::write(&self.path, e))
     }
 }
 

@@ -184,15 +184,12 @@ max_iterations = 100
 }
 
 fn csv_err(path: &Path) -> impl Fn(csv::Error) -> Error + '_ {
-    move |source| Error::Csv {
-        path: path.to_path_buf(),
-        source,
-    }
+    move |source| Error::write_csv(path, source)
 }
 
 /// Write one source table as CSV.
 fn write_source(data: &Dataset, source: Source, path: &Path) -> crate::Result<()> {
-    let file = File::create(path).map_err(|e| Error::io(path, e))?;
+    let file = File::create(path).map_err(|e| Error::write(path, e))?;
     let mut w = csv::Writer::from_writer(BufWriter::with_capacity(1 << 20, file));
     w.write_record(source.header()).map_err(csv_err(path))?;
     for r in data.table(source).records() {
@@ -202,15 +199,15 @@ fn write_source(data: &Dataset, source: Source, path: &Path) -> crate::Result<()
     }
     let mut inner = w
         .into_inner()
-        .map_err(|e| Error::io(path, std::io::Error::other(e.to_string())))?;
-    inner.flush().map_err(|e| Error::io(path, e))
+        .map_err(|e| Error::write(path, e.into_error()))?;
+    inner.flush().map_err(|e| Error::write(path, e))
 }
 
 /// Write the truth file.
 fn write_truth(data: &Dataset, path: &Path) -> crate::Result<()> {
-    let file = File::create(path).map_err(|e| Error::io(path, e))?;
+    let file = File::create(path).map_err(|e| Error::write(path, e))?;
     let mut w = BufWriter::with_capacity(1 << 20, file);
-    let io = |e| Error::io(path, e);
+    let io = |e| Error::write(path, e);
     writeln!(w, "source,source_id,entity_id").map_err(io)?;
     for s in Source::ALL {
         for r in data.table(s).records() {
@@ -248,7 +245,7 @@ pub fn write_dataset(data: &Dataset, dir: &Path) -> crate::Result<Summary> {
     );
     sources?;
     truth_result?;
-    std::fs::write(&spec, spec_toml()).map_err(|e| Error::io(&spec, e))?;
+    std::fs::write(&spec, spec_toml()).map_err(|e| Error::write(&spec, e))?;
     let mut files = paths;
     files.push(truth);
     files.push(spec);
