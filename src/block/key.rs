@@ -17,6 +17,12 @@ pub enum KeyFn {
     Initial,
     /// The year of a date.
     Year,
+    /// The local part of an e-mail address (before `@`, tag already removed): finds the
+    /// same mailbox name at another provider.
+    LocalPart,
+    /// The national significant number of a phone (without country code or trunk
+    /// prefix): finds the same number written with another or no country code.
+    National,
 }
 
 /// One part of a blocking key.
@@ -36,13 +42,15 @@ impl fmt::Display for KeyPart {
             KeyFn::Prefix(n) => write!(f, "prefix({}, {n})", self.attr),
             KeyFn::Initial => write!(f, "initial({})", self.attr),
             KeyFn::Year => write!(f, "year({})", self.attr),
+            KeyFn::LocalPart => write!(f, "local_part({})", self.attr),
+            KeyFn::National => write!(f, "national({})", self.attr),
         }
     }
 }
 
 /// The key parts as a spec writes them, for messages.
-pub const KEY_HELP: &str =
-    "an attribute name, soundex(attr), prefix(attr, n), initial(attr), year(attr)";
+pub const KEY_HELP: &str = "an attribute name, soundex(attr), prefix(attr, n), initial(attr), \
+     year(attr), local_part(email), national(phone)";
 
 impl KeyPart {
     /// Parse a key part as written in the spec.
@@ -81,6 +89,20 @@ impl KeyPart {
                 func: KeyFn::Year,
                 attr: attr_of(a)?,
             }),
+            ("local_part", [a]) => match attr_of(a)? {
+                Attr::Email => Ok(KeyPart {
+                    func: KeyFn::LocalPart,
+                    attr: Attr::Email,
+                }),
+                other => Err(format!("`{t}`: local_part applies to email, not {other}")),
+            },
+            ("national", [a]) => match attr_of(a)? {
+                Attr::Phone => Ok(KeyPart {
+                    func: KeyFn::National,
+                    attr: Attr::Phone,
+                }),
+                other => Err(format!("`{t}`: national applies to phone, not {other}")),
+            },
             ("prefix", [a, n]) => {
                 let n: usize = n
                     .parse()
@@ -104,6 +126,10 @@ pub struct BlockSpec {
     pub name: String,
     /// Key parts; all must be present for a record to be blocked on this key.
     pub keys: Vec<KeyPart>,
+    /// The parts' values are sorted before they are joined, so that records agree on
+    /// the key whichever part holds which value (`soundex(given_name)` and
+    /// `soundex(family_name)` with the names swapped).
+    pub any_order: bool,
 }
 
 #[cfg(test)]
@@ -117,6 +143,8 @@ mod tests {
             "soundex(family_name)",
             "prefix(postcode, 3)",
             "year(birth_date)",
+            "local_part(email)",
+            "national(phone)",
         ] {
             assert_eq!(KeyPart::parse(s).unwrap().to_string(), s);
         }

@@ -125,7 +125,7 @@ impl Blocking {
                     .iter()
                     .map(|p| (&derived[p].0, &derived[p].1, table.column(p.attr)))
                     .collect();
-                key_blocks(table.len(), &spec.name, &parts)
+                key_blocks(table.len(), &spec.name, &parts, spec.any_order)
             })
             .collect();
         for (spec, kb) in specs.iter().zip(&keys) {
@@ -272,11 +272,42 @@ pub fn key_value(value: &str, func: KeyFn) -> Option<String> {
                 return None;
             }
         }
+        KeyFn::LocalPart => {
+            let (local, _) = value.rsplit_once('@')?;
+            local.to_string()
+        }
+        KeyFn::National => crate::standardize::phone::national_number_of(value)?,
     };
     (!out.is_empty()).then_some(out)
 }
 
-fn key_blocks(n: usize, name: &str, parts: &[(&Vec<u32>, &Vec<String>, &Column)]) -> KeyBlocks {
+fn key_blocks(
+    n: usize,
+    name: &str,
+    parts: &[(&Vec<u32>, &Vec<String>, &Column)],
+    any_order: bool,
+) -> KeyBlocks {
+    // With `any_order`, the parts' derived values share one id space (by their
+    // strings) and each record's tuple is sorted.
+    let mut shared_values: Vec<&str> = Vec::new();
+    let shared: Vec<Vec<u32>> = if any_order {
+        let mut ids: HashMap<&str, u32> = HashMap::default();
+        parts
+            .iter()
+            .map(|(_, vals, _)| {
+                vals.iter()
+                    .map(|v| {
+                        *ids.entry(v.as_str()).or_insert_with(|| {
+                            shared_values.push(v.as_str());
+                            shared_values.len() as u32 - 1
+                        })
+                    })
+                    .collect()
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
     // Combine the parts' derived ids into one key id per record.
     let mut combined: HashMap<Vec<u32>, u32> = HashMap::default();
     let mut values: Vec<String> = Vec::new();
@@ -284,29 +315,34 @@ fn key_blocks(n: usize, name: &str, parts: &[(&Vec<u32>, &Vec<String>, &Column)]
     let mut tuple = Vec::with_capacity(parts.len());
     for (r, slot) in key_of.iter_mut().enumerate() {
         tuple.clear();
-        for (ids, _, column) in parts {
+        for (p, (ids, _, column)) in parts.iter().enumerate() {
             let d = ids[column.ids[r] as usize];
             if d == NO_KEY {
                 break;
             }
-            tuple.push(d);
+            tuple.push(if any_order { shared[p][d as usize] } else { d });
         }
         if tuple.len() < parts.len() {
             continue;
+        }
+        if any_order {
+            tuple.sort_unstable();
         }
         let next = combined.len() as u32;
         *slot = match combined.get(&tuple) {
             Some(&k) => k,
             None => {
                 combined.insert(tuple.clone(), next);
-                values.push(
+                let text: Vec<&str> = if any_order {
+                    tuple.iter().map(|&d| shared_values[d as usize]).collect()
+                } else {
                     tuple
                         .iter()
                         .zip(parts)
                         .map(|(&d, (_, vals, _))| vals[d as usize].as_str())
-                        .collect::<Vec<_>>()
-                        .join("|"),
-                );
+                        .collect()
+                };
+                values.push(text.join("|"));
                 next
             }
         };
@@ -460,6 +496,7 @@ mod tests {
         BlockSpec {
             name: name.into(),
             keys: keys.iter().map(|k| KeyPart::parse(k).unwrap()).collect(),
+            any_order: false,
         }
     }
 
@@ -592,5 +629,59 @@ mod tests {
             key_value("Ösen Иван", KeyFn::Soundex).as_deref(),
             Some("O250")
         );
+    }
+
+    #[test]
+    fn any_order_keys_ignore_which_part_holds_which_value() {
+        use crate::record::{RecordTableBuilder, StdRecord};
+        // Invented names: records 0 and 1 have given and family name swapped.
+        let rows = [
+            (Some("mechthilde"), Some("lange")),
+            (Some("lange"), Some("mechthilde")),
+            (Some("mechthilde"), Some("lang")),
+            (None, Some("mechthilde")),
+        ];
+        let mut b = RecordTableBuilder::new(vec!["s".into()]);
+        for (i, (g, f)) in rows.iter().enumerate() {
+            let mut r = StdRecord::default();
+            r.set(Attr::GivenName, g.map(String::from));
+            r.set(Attr::FamilyName, f.map(String::from));
+            b.push(0, i.to_string(), r);
+        }
+        let t = b.finish();
+        let mut s = spec("names", &["soundex(given_name)", "soundex(family_name)"]);
+        let ordered = Blocking::build(&t, std::slice::from_ref(&s), u64::MAX).unwrap();
+        assert_eq!(all_pairs(&ordered), vec![(0, 2, 0)]);
+        s.any_order = true;
+        let any = Blocking::build(&t, &[s], u64::MAX).unwrap();
+        // Soundex (Russell 1918, as in the American Soundex rules): lange = lang = L520,
+        // mechthilde = M234.
+        assert_eq!(all_pairs(&any), vec![(0, 1, 0), (0, 2, 0), (1, 2, 0)]);
+        // Display: the parts in the (deterministic) order of their first appearance.
+        assert_eq!(any.keys[0].values[0], "M234|L520");
+    }
+
+    #[test]
+    fn local_part_and_national_number_keys() {
+        let soundex = Soundex::default();
+        assert_eq!(
+            key_value("ana.ruiz@mail.example", KeyFn::LocalPart, &soundex).as_deref(),
+            Some("ana.ruiz")
+        );
+        assert_eq!(key_value("no-at-sign", KeyFn::LocalPart, &soundex), None);
+        assert_eq!(key_value("@mail.example", KeyFn::LocalPart, &soundex), None);
+        // Country calling codes 33 (France) and 1 (NANP), ITU-T E.164 list.
+        for v in ["+33612345678", "+33612345678?", "0612345678?"] {
+            assert_eq!(
+                key_value(v, KeyFn::National, &soundex).as_deref(),
+                Some("612345678"),
+                "{v}"
+            );
+        }
+        assert_eq!(
+            key_value("+15814586944?", KeyFn::National, &soundex).as_deref(),
+            Some("5814586944")
+        );
+        assert_eq!(key_value("+33", KeyFn::National, &soundex), None);
     }
 }

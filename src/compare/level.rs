@@ -40,6 +40,21 @@ pub enum Level {
     DateOneDigit,
     /// Dates share the year.
     SameYear,
+    /// Given and family name swapped: this attribute's value equals the other name
+    /// attribute's value of the other record, and (when both are present) the other
+    /// way round, after ASCII folding. Only on given_name and family_name.
+    Swapped,
+    /// The words of one value are a proper subset of the other's (`maría josé` and
+    /// `maría`, `garcía lópez` and `garcía`), after ASCII folding.
+    Subset,
+    /// Phones: the same number, valid by the numbering plan (`verified`).
+    Verified,
+    /// Phones: the same national significant number under another country code, or one
+    /// side without a country code (`national_number`).
+    NationalNumber,
+    /// Dates: one side lacks the year (`--05-17`) or the day (`1980-05`), and the two
+    /// agree on every part both hold (`partial`).
+    Partial,
 }
 
 impl fmt::Display for Level {
@@ -59,14 +74,20 @@ impl fmt::Display for Level {
             Level::DateSwap => f.write_str("date_swap"),
             Level::DateOneDigit => f.write_str("date_one_digit"),
             Level::SameYear => f.write_str("same_year"),
+            Level::Swapped => f.write_str("swapped"),
+            Level::Subset => f.write_str("subset"),
+            Level::Verified => f.write_str("verified"),
+            Level::NationalNumber => f.write_str("national_number"),
+            Level::Partial => f.write_str("partial"),
         }
     }
 }
 
 /// The levels as a spec writes them, for messages.
 pub const LEVEL_HELP: &str = "exact, translit, nickname, initial, soundex, local_part, any_token, \
-     \"jaro_winkler >= 0.9\", \"jaro >= 0.9\", \"monge_elkan >= 0.9\", \"levenshtein <= 2\", \
-     date_swap, date_one_digit, same_year";
+     swapped, subset, \"jaro_winkler >= 0.9\", \"jaro >= 0.9\", \"monge_elkan >= 0.9\", \
+     \"levenshtein <= 2\", date_swap, date_one_digit, same_year, partial, verified, \
+     national_number";
 
 /// Most levels one attribute may declare (the implicit `disagree` not counted).
 pub const MAX_DECLARED_LEVELS: usize = 12;
@@ -86,6 +107,11 @@ impl Level {
             "date_swap" => Some(Level::DateSwap),
             "date_one_digit" => Some(Level::DateOneDigit),
             "same_year" => Some(Level::SameYear),
+            "swapped" => Some(Level::Swapped),
+            "subset" => Some(Level::Subset),
+            "verified" => Some(Level::Verified),
+            "national_number" => Some(Level::NationalNumber),
+            "partial" => Some(Level::Partial),
             _ => None,
         };
         if let Some(l) = simple {
@@ -120,8 +146,13 @@ impl Level {
     pub fn is_date_level(self) -> bool {
         matches!(
             self,
-            Level::DateSwap | Level::DateOneDigit | Level::SameYear
+            Level::DateSwap | Level::DateOneDigit | Level::SameYear | Level::Partial
         )
+    }
+
+    /// True for levels that only make sense on phone numbers.
+    pub fn is_phone_level(self) -> bool {
+        matches!(self, Level::Verified | Level::NationalNumber)
     }
 
     /// Whether the level can be declared on `attr`; the error says why not.
@@ -131,6 +162,12 @@ impl Level {
         }
         if self == Level::LocalPart && attr != Attr::Email {
             return Err("`local_part` only applies to email".to_string());
+        }
+        if self.is_phone_level() && attr != Attr::Phone {
+            return Err(format!("`{self}` only applies to phone"));
+        }
+        if self == Level::Swapped && !matches!(attr, Attr::GivenName | Attr::FamilyName) {
+            return Err("`swapped` only applies to given_name and family_name".to_string());
         }
         Ok(())
     }
@@ -172,6 +209,11 @@ mod tests {
             "jaro_winkler >= 0.85",
             "levenshtein <= 2",
             "same_year",
+            "swapped",
+            "subset",
+            "partial",
+            "verified",
+            "national_number",
         ] {
             assert_eq!(Level::parse(s).unwrap().to_string(), s);
         }
@@ -184,5 +226,11 @@ mod tests {
         assert!(Level::LocalPart.check_applies_to(Attr::Email).is_ok());
         assert!(Level::LocalPart.check_applies_to(Attr::GivenName).is_err());
         assert!(Level::Exact.check_applies_to(Attr::City).is_ok());
+        assert!(Level::Swapped.check_applies_to(Attr::FamilyName).is_ok());
+        assert!(Level::Swapped.check_applies_to(Attr::City).is_err());
+        assert!(Level::Verified.check_applies_to(Attr::Phone).is_ok());
+        assert!(Level::NationalNumber.check_applies_to(Attr::Email).is_err());
+        assert!(Level::Partial.check_applies_to(Attr::BirthDate).is_ok());
+        assert!(Level::Subset.check_applies_to(Attr::Company).is_ok());
     }
 }

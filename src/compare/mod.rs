@@ -39,8 +39,30 @@ pub struct Comparator {
     translit: Vec<Vec<u32>>,
     soundex: Vec<u32>,
     dates: Vec<Option<(u16, u8, u8)>>,
+    /// Per value, its words as ids (for `subset`), sorted and without repeats.
+    words: Vec<Vec<u32>>,
+    /// Phones: per value, whether it is valid by the numbering plan (for `verified`).
+    verified: Vec<bool>,
+    /// Phones: per value, an id of its national significant number (for
+    /// `national_number`); `u32::MAX` when it has none.
+    national: Vec<u32>,
+    /// The `swapped` level, when the spec lists it and the partner column is attached.
+    swap: Option<Swap>,
     equal_level: u8,
+    /// Equal values are not always the best level (`verified` needs a valid number):
+    /// run equal values through the levels too.
+    equal_by_levels: bool,
     cached: bool,
+}
+
+/// What the `swapped` level needs: the other name attribute, and every value of both
+/// columns mapped to one id space by its compared form.
+#[derive(Debug, Clone)]
+struct Swap {
+    level: u8,
+    partner: Attr,
+    own: Vec<u32>,
+    other: Vec<u32>,
 }
 
 impl Comparator {
@@ -86,15 +108,67 @@ impl Comparator {
             Vec::new()
         };
         let dates = if spec.attr == Attr::BirthDate {
-            column.dict.iter().map(|v| parse_iso(v)).collect()
+            column.dict.iter().map(|v| parse_date_value(v)).collect()
+        } else {
+            Vec::new()
+        };
+        let words = if has(|l| *l == Level::Subset) {
+            let mut ids: HashMap<&str, u32> = HashMap::new();
+            folded
+                .iter()
+                .map(|f| {
+                    let mut v: Vec<u32> = tokens(f)
+                        .map(|t| {
+                            let n = ids.len() as u32;
+                            *ids.entry(t).or_insert(n)
+                        })
+                        .collect();
+                    v.sort_unstable();
+                    v.dedup();
+                    v
+                })
+                .collect()
+        } else {
+            Vec::new()
+        };
+        let verified = if has(|l| *l == Level::Verified) {
+            column.dict.iter().map(|v| phone_is_verified(v)).collect()
+        } else {
+            Vec::new()
+        };
+        let national = if has(|l| *l == Level::NationalNumber) {
+            let mut ids: HashMap<String, u32> = HashMap::new();
+            column
+                .dict
+                .iter()
+                .map(|v| match national_significant_number(v) {
+                    Some(n) => {
+                        let next = ids.len() as u32;
+                        *ids.entry(n).or_insert(next)
+                    }
+                    None => u32::MAX,
+                })
+                .collect()
         } else {
             Vec::new()
         };
         let equal_level = spec
             .levels
             .iter()
-            .position(|l| !matches!(l, Level::DateSwap | Level::DateOneDigit | Level::Initial))
+            .position(|l| {
+                !matches!(
+                    l,
+                    Level::DateSwap
+                        | Level::DateOneDigit
+                        | Level::Initial
+                        | Level::Swapped
+                        | Level::Subset
+                        | Level::NationalNumber
+                )
+            })
             .unwrap_or(spec.levels.len()) as u8;
+        let equal_by_levels = has(|l| *l == Level::Verified)
+            || (spec.attr == Attr::BirthDate && has(|l| *l == Level::Partial));
         let cached = has(|l| {
             matches!(
                 l,
@@ -104,6 +178,7 @@ impl Comparator {
                     | Level::Nickname
                     | Level::MongeElkan(_)
                     | Level::AnyToken
+                    | Level::Subset
             )
         });
         Comparator {
@@ -114,8 +189,63 @@ impl Comparator {
             translit,
             soundex,
             dates,
+            words,
+            verified,
+            national,
+            swap: None,
             equal_level,
+            equal_by_levels,
             cached,
+        }
+    }
+
+    /// Prepare the `swapped` level (when the spec lists it) with the other name
+    /// attribute's column: given_name pairs with family_name and the other way round.
+    pub fn attach_partner(&mut self, table: &RecordTable) {
+        let Some(level) = self.levels.iter().position(|l| *l == Level::Swapped) else {
+            return;
+        };
+        let partner = match self.attr {
+            Attr::GivenName => Attr::FamilyName,
+            Attr::FamilyName => Attr::GivenName,
+            _ => return,
+        };
+        let mut ids: HashMap<String, u32> = HashMap::new();
+        let mut id_of = |f: &str| -> u32 {
+            let n = ids.len() as u32;
+            *ids.entry(f.to_string()).or_insert(n)
+        };
+        let other_folded: Vec<String> = table
+            .column(partner)
+            .dict
+            .iter()
+            .map(|v| fold_for_comparison(v))
+            .collect();
+        let own: Vec<u32> = self.folded.iter().map(|f| id_of(f)).collect();
+        let other: Vec<u32> = other_folded.iter().map(|f| id_of(f)).collect();
+        self.swap = Some(Swap {
+            level: level as u8,
+            partner,
+            own,
+            other,
+        });
+    }
+
+    /// The `swapped` level's test for one pair of records, given both records' values
+    /// of this attribute (`a`, `b`, both present and distinct) and of the partner
+    /// attribute (`pa`, `pb`, possibly missing): each side's value is the other side's
+    /// partner value; a side without a partner value (a one-word name) needs only its
+    /// own value to be the other side's partner value.
+    #[inline]
+    fn swapped(swap: &Swap, a: ValueId, b: ValueId, pa: ValueId, pb: ValueId) -> bool {
+        let cross = |x: ValueId, px: ValueId| {
+            px != MISSING && swap.own[x as usize] == swap.other[px as usize]
+        };
+        match (pa == MISSING, pb == MISSING) {
+            (false, false) => cross(a, pb) && cross(b, pa),
+            (true, false) => cross(a, pb),
+            (false, true) => cross(b, pa),
+            (true, true) => false,
         }
     }
 
@@ -143,11 +273,40 @@ impl Comparator {
     pub fn level(&self, a: ValueId, b: ValueId) -> u8 {
         if a == MISSING || b == MISSING {
             MISSING_LEVEL
-        } else if a == b {
+        } else if a == b && !self.equal_by_levels {
             self.equal_level
         } else {
             self.level_of_distinct(a, b)
         }
+    }
+
+    /// The level of two records' values given also their values of the partner
+    /// attribute (for the `swapped` level; the plain level without it).
+    #[inline]
+    pub fn level_with_partner(
+        &self,
+        a: ValueId,
+        b: ValueId,
+        partners: Option<(ValueId, ValueId)>,
+        cache: &mut LevelCache,
+    ) -> u8 {
+        let l = self.level_cached(a, b, cache);
+        match (&self.swap, partners) {
+            (Some(s), Some((pa, pb)))
+                if l != MISSING_LEVEL
+                    && l > s.level
+                    && a != b
+                    && Self::swapped(s, a, b, pa, pb) =>
+            {
+                s.level
+            }
+            _ => l,
+        }
+    }
+
+    /// The other name attribute the `swapped` level reads, if this comparator has it.
+    pub fn partner(&self) -> Option<Attr> {
+        self.swap.as_ref().map(|s| s.partner)
     }
 
     /// The level of two value ids, using `cache` for expensive comparisons.
@@ -156,10 +315,10 @@ impl Comparator {
         if a == MISSING || b == MISSING {
             return MISSING_LEVEL;
         }
-        if a == b {
+        if a == b && !self.equal_by_levels {
             return self.equal_level;
         }
-        if !self.cached {
+        if !self.cached || a == b {
             return self.level_of_distinct(a, b);
         }
         let (lo, hi) = if a < b { (a, b) } else { (b, a) };
@@ -178,7 +337,7 @@ impl Comparator {
         let mut jaro: Option<f64> = None;
         for (i, level) in self.levels.iter().enumerate() {
             let hit = match *level {
-                Level::Exact => false,
+                Level::Exact => a == b,
                 Level::Translit => {
                     fa == fb || intersects(&self.translit[a as usize], &self.translit[b as usize])
                 }
@@ -202,9 +361,23 @@ impl Comparator {
                 },
                 Level::DateOneDigit => one_digit_apart(fa, fb),
                 Level::SameYear => match (self.dates[a as usize], self.dates[b as usize]) {
-                    (Some(x), Some(y)) => x.0 == y.0,
+                    (Some(x), Some(y)) => x.0 != 0 && x.0 == y.0,
                     _ => false,
                 },
+                Level::Partial => match (self.dates[a as usize], self.dates[b as usize]) {
+                    (Some(x), Some(y)) => partial_date_agrees(x, y),
+                    _ => false,
+                },
+                Level::Swapped => false,
+                Level::Subset => {
+                    proper_subset(&self.words[a as usize], &self.words[b as usize])
+                        || proper_subset(&self.words[b as usize], &self.words[a as usize])
+                }
+                Level::Verified => a == b && self.verified[a as usize],
+                Level::NationalNumber => {
+                    let (x, y) = (self.national[a as usize], self.national[b as usize]);
+                    x != u32::MAX && x == y
+                }
             };
             if hit {
                 return i as u8;
@@ -321,15 +494,66 @@ fn one_digit_apart(a: &str, b: &str) -> bool {
             .all(|(x, y)| x == y || (x.is_ascii_digit() && y.is_ascii_digit()))
 }
 
-fn parse_iso(v: &str) -> Option<(u16, u8, u8)> {
+/// A standardized date as (year, month, day); 0 marks a part the value does not hold:
+/// `YYYY-MM-DD`, `--MM-DD` (no year, ISO 8601:2004 §4.1.2.3 reduced form as in XML
+/// Schema `gMonthDay`) or `YYYY-MM` (no day).
+fn parse_date_value(v: &str) -> Option<(u16, u8, u8)> {
     let b = v.as_bytes();
-    if b.len() != 10 || b[4] != b'-' || b[7] != b'-' {
-        return None;
+    let num = |s: &str| s.parse::<u16>().ok();
+    match b.len() {
+        10 if b[4] == b'-' && b[7] == b'-' => {
+            Some((num(&v[0..4])?, num(&v[5..7])? as u8, num(&v[8..10])? as u8))
+        }
+        7 if b[0] == b'-' && b[1] == b'-' && b[4] == b'-' => {
+            Some((0, num(&v[2..4])? as u8, num(&v[5..7])? as u8))
+        }
+        7 if b[4] == b'-' => Some((num(&v[0..4])?, num(&v[5..7])? as u8, 0)),
+        _ => None,
     }
-    let y = v[0..4].parse().ok()?;
-    let m = v[5..7].parse().ok()?;
-    let d = v[8..10].parse().ok()?;
-    Some((y, m, d))
+}
+
+/// Two dates of which at least one is partial agree on every part both hold (day and
+/// month of `--05-17` against `1980-05-17`; year and month of `1980-05` against
+/// `1980-05-17`), and share at least the month.
+fn partial_date_agrees(x: (u16, u8, u8), y: (u16, u8, u8)) -> bool {
+    let partial = |d: (u16, u8, u8)| d.0 == 0 || d.2 == 0;
+    if !partial(x) && !partial(y) {
+        return false;
+    }
+    let same = |p: u16, q: u16| p == 0 || q == 0 || p == q;
+    x.1 == y.1
+        && same(x.0, y.0)
+        && same(u16::from(x.2), u16::from(y.2))
+        && !(x.0 == 0 && y.0 == 0 && x.2 == 0 && y.2 == 0)
+}
+
+/// `a` is a proper subset of `b` (both sorted, without repeats).
+fn proper_subset(a: &[u32], b: &[u32]) -> bool {
+    if a.is_empty() || a.len() >= b.len() {
+        return false;
+    }
+    let mut j = 0;
+    for x in a {
+        while j < b.len() && b[j] < *x {
+            j += 1;
+        }
+        if j == b.len() || b[j] != *x {
+            return false;
+        }
+        j += 1;
+    }
+    true
+}
+
+/// A standardized phone value is valid by the numbering plan: written in E.164 without
+/// the unverified mark ([`crate::standardize::phone::UNVERIFIED_MARK`]).
+fn phone_is_verified(v: &str) -> bool {
+    v.starts_with('+') && !v.ends_with(crate::standardize::phone::UNVERIFIED_MARK)
+}
+
+/// The national significant number of a standardized phone value.
+fn national_significant_number(v: &str) -> Option<String> {
+    crate::standardize::phone::national_number_of(v)
 }
 
 /// A small direct-mapped cache of level codes keyed by value-id pairs.
@@ -383,7 +607,11 @@ impl Comparison {
         Comparison {
             comparators: specs
                 .iter()
-                .map(|s| Comparator::new(s, table.column(s.attr)))
+                .map(|s| {
+                    let mut c = Comparator::new(s, table.column(s.attr));
+                    c.attach_partner(table);
+                    c
+                })
                 .collect(),
         }
     }
@@ -416,7 +644,15 @@ impl Comparison {
         let mut g = [MISSING_LEVEL; MAX_ATTRS];
         for (k, c) in self.comparators.iter().enumerate() {
             let col = &table.columns[c.attr.index()].ids;
-            g[k] = c.level_cached(col[a as usize], col[b as usize], &mut scratch.caches[k]);
+            let (x, y) = (col[a as usize], col[b as usize]);
+            g[k] = match &c.swap {
+                None => c.level_cached(x, y, &mut scratch.caches[k]),
+                Some(s) => {
+                    let p = &table.columns[s.partner.index()].ids;
+                    let partners = Some((p[a as usize], p[b as usize]));
+                    c.level_with_partner(x, y, partners, &mut scratch.caches[k])
+                }
+            };
         }
         g
     }
@@ -621,5 +857,169 @@ mod tests {
         let c = Comparator::new(&spec, t.column(Attr::GivenName));
         assert_eq!(c.level(MISSING, 1), MISSING_LEVEL);
         assert_eq!(c.level_name(MISSING_LEVEL), "missing");
+    }
+
+    /// Records with a given and a family name each (`None` = missing).
+    fn names_table(rows: &[(Option<&str>, Option<&str>)]) -> RecordTable {
+        let mut b = RecordTableBuilder::new(vec!["s".into()]);
+        for (i, (g, f)) in rows.iter().enumerate() {
+            let mut r = StdRecord::default();
+            r.set(Attr::GivenName, g.map(String::from));
+            r.set(Attr::FamilyName, f.map(String::from));
+            b.push(0, i.to_string(), r);
+        }
+        b.finish()
+    }
+
+    #[test]
+    fn swapped_names_and_single_words() {
+        let specs: Vec<CompareSpec> = [Attr::GivenName, Attr::FamilyName]
+            .into_iter()
+            .map(|attr| CompareSpec {
+                attr,
+                levels: ["exact", "jaro_winkler >= 0.92", "swapped"]
+                    .iter()
+                    .map(|l| Level::parse(l).unwrap())
+                    .collect(),
+                frequency: false,
+            })
+            .collect();
+        // Invented names.
+        let t = names_table(&[
+            (Some("mechthilde"), Some("lange")),
+            (Some("lange"), Some("mechthilde")),
+            (Some("Lange"), Some("otto")),
+            (None, Some("mechthilde")),
+            (Some("mechthilde"), None),
+            (Some("lange"), Some("mechthilde")),
+        ]);
+        let c = Comparison::new(&specs, &t);
+        let mut scratch = c.scratch();
+        let names = |a: u32, b: u32, scratch: &mut Scratch| {
+            let g = c.gamma(&t, a, b, scratch);
+            (
+                c.comparators[0].level_name(g[0]).to_string(),
+                c.comparators[1].level_name(g[1]).to_string(),
+            )
+        };
+        let pair = |x: &str, y: &str| (x.to_string(), y.to_string());
+        // Both parts swapped: both attributes at `swapped`, in either direction.
+        assert_eq!(names(0, 1, &mut scratch), pair("swapped", "swapped"));
+        assert_eq!(names(1, 0, &mut scratch), pair("swapped", "swapped"));
+        // Only one cross agreement with both parts present: no swap.
+        assert_eq!(names(0, 2, &mut scratch), pair("disagree", "disagree"));
+        // A one-word name held as family name against the same word as given name.
+        assert_eq!(names(3, 0, &mut scratch), pair("missing", "swapped"));
+        // ... and a one-word given name against the other side's family name.
+        assert_eq!(names(4, 1, &mut scratch), pair("swapped", "missing"));
+        assert_eq!(names(4, 2, &mut scratch), pair("disagree", "missing"));
+        // Equal values stay exact.
+        assert_eq!(names(1, 5, &mut scratch), pair("exact", "exact"));
+    }
+
+    #[test]
+    fn subset_of_words() {
+        let got = levels_of(
+            Attr::GivenName,
+            &["exact", "subset", "any_token"],
+            &[
+                "maría josé",
+                "maría",
+                "josé maría",
+                "maría luisa",
+                "josé",
+                "ana",
+            ],
+        );
+        // "josé maría" has the same words: not a proper subset, but a shared word.
+        assert_eq!(
+            got,
+            ["subset", "any_token", "any_token", "subset", "disagree"]
+        );
+        assert!(proper_subset(&[1, 3], &[1, 2, 3]));
+        assert!(!proper_subset(&[1, 4], &[1, 2, 3]));
+        assert!(!proper_subset(&[], &[1]));
+        assert!(!proper_subset(&[1, 2], &[1, 2]));
+    }
+
+    #[test]
+    fn partial_dates() {
+        // ISO 8601 reduced forms: `--MM-DD` without a year, `YYYY-MM` without a day.
+        let got = levels_of(
+            Attr::BirthDate,
+            &["exact", "partial", "date_swap", "same_year"],
+            &[
+                "1980-05-17",
+                "--05-17",
+                "1980-05",
+                "--05-18",
+                "1981-05",
+                "1979-05-17",
+                "1980-01-01",
+            ],
+        );
+        assert_eq!(
+            got,
+            [
+                "partial",
+                "partial",
+                "disagree",
+                "disagree",
+                "disagree",
+                "same_year"
+            ]
+        );
+        // Two partial dates agree on what both hold.
+        assert!(partial_date_agrees((0, 5, 17), (0, 5, 17)));
+        assert!(partial_date_agrees((0, 5, 17), (1980, 5, 0)));
+        assert!(!partial_date_agrees((1980, 5, 17), (1980, 5, 17)));
+        assert_eq!(parse_date_value("--05-17"), Some((0, 5, 17)));
+        assert_eq!(parse_date_value("1980-05"), Some((1980, 5, 0)));
+        assert_eq!(parse_date_value("17.05.1980"), None);
+    }
+
+    #[test]
+    fn phone_levels() {
+        let levels = ["verified", "exact", "national_number"];
+        let phone_levels = |values: &[&str]| {
+            let spec = CompareSpec {
+                attr: Attr::Phone,
+                levels: levels.iter().map(|l| Level::parse(l).unwrap()).collect(),
+                frequency: false,
+            };
+            let mut b = RecordTableBuilder::new(vec!["s".into()]);
+            for (i, v) in values.iter().enumerate() {
+                let mut r = StdRecord::default();
+                r.set(Attr::Phone, Some(v.to_string()));
+                b.push(0, i.to_string(), r);
+            }
+            let t = b.finish();
+            let c = Comparator::new(&spec, t.column(Attr::Phone));
+            let ids = &t.column(Attr::Phone).ids;
+            let mut cache = LevelCache::default();
+            (1..values.len())
+                .map(|i| {
+                    let l = c.level_cached(ids[0], ids[i], &mut cache);
+                    assert_eq!(l, c.level(ids[i], ids[0]));
+                    c.level_name(l).to_string()
+                })
+                .collect::<Vec<_>>()
+        };
+        // Valid: CHECK_VALUES.md §5, "06 12 34 56 78" FR -> +33612345678 (valid).
+        assert_eq!(
+            phone_levels(&[
+                "+33612345678",
+                "+33612345678",
+                "0612345678?",
+                "+34612345678",
+                "+33612345679"
+            ]),
+            ["verified", "national_number", "national_number", "disagree"]
+        );
+        // Unverified numbers (marked `?`) agree at `exact`, not `verified`.
+        assert_eq!(
+            phone_levels(&["+15814586944?", "+15814586944?", "5814586944?"]),
+            ["exact", "national_number"]
+        );
     }
 }

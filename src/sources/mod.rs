@@ -23,7 +23,8 @@ use crate::error::{Error, Result};
 use crate::record::{
     Attr, PassThroughHash, RecordBatch, RecordTable, RecordTableBuilder, StdRecord,
 };
-use crate::standardize::{standardize, Conventions, StdStats};
+use crate::standardize::names::{self, NameFrequencies};
+use crate::standardize::{standardize, Conventions, NameOrder, StdStats};
 use crate::util::cpu::thread_cpu;
 use crate::util::Progress;
 
@@ -136,7 +137,26 @@ fn load_chunked(
         task_rows: task_rows.max(1),
         buffers: Default::default(),
     };
+    // Free-text names in mixed order are read with the name-word counts of the sources
+    // that keep given and family names apart.
+    let names = if sources
+        .iter()
+        .any(|s| s.conventions.name_order == NameOrder::Mixed)
+    {
+        Some(std::sync::Arc::new(learn_name_frequencies(sources)?))
+    } else {
+        None
+    };
     for (i, src) in sources.iter().enumerate() {
+        let mixed;
+        let src = if src.conventions.name_order == NameOrder::Mixed {
+            let mut s = src.clone();
+            s.conventions.names = names.clone();
+            mixed = s;
+            &mixed
+        } else {
+            src
+        };
         let report = load_source(
             src,
             i as u16,
@@ -155,6 +175,46 @@ fn load_chunked(
         stats: totals.stats,
         standardize_cpu: totals.cpu,
     })
+}
+
+/// Count the given-name and family-name words of every source that maps both
+/// `given_name` and `family_name` (cleaned as standardization cleans them), for the
+/// sources whose full names come in mixed order. Rows that cannot be read are skipped
+/// here (the main read reports them).
+pub fn learn_name_frequencies(sources: &[SourceSpec]) -> Result<NameFrequencies> {
+    let mut freqs = NameFrequencies::default();
+    for src in sources {
+        let column = |a: Attr| src.columns.iter().find(|(x, _)| *x == a).map(|(_, h)| h);
+        let (Some(given), Some(family)) = (column(Attr::GivenName), column(Attr::FamilyName))
+        else {
+            continue;
+        };
+        let path = src.path.as_path();
+        let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+        let mut reader = csv::ReaderBuilder::new()
+            .flexible(true)
+            .has_headers(true)
+            .delimiter(src.delimiter)
+            .from_reader(std::io::BufReader::with_capacity(
+                1 << 20,
+                decoded(file, src.encoding),
+            ));
+        let headers = read_headers(&mut reader, path)?;
+        let g_at = find_column(&headers, given, path, &src.name, "given_name")?;
+        let f_at = find_column(&headers, family, path, &src.name, "family_name")?;
+        let country = src.conventions.country.as_deref();
+        let mut record = csv::ByteRecord::new();
+        while reader.read_byte_record(&mut record).unwrap_or(false) {
+            let field = |k: usize| record.get(k).and_then(|b| std::str::from_utf8(b).ok());
+            if let Some(v) = field(g_at).and_then(|v| names::clean_name_part(v, country).0) {
+                freqs.add_given(&v);
+            }
+            if let Some(v) = field(f_at).and_then(|v| names::clean_name_part(v, country).0) {
+                freqs.add_family(&v);
+            }
+        }
+    }
+    Ok(freqs)
 }
 
 /// Standardization counts and CPU time, summed over chunks.

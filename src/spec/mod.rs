@@ -421,4 +421,49 @@ unique = ["email"]
         assert_eq!(k, "block[1].keys");
         assert!(m.contains("city"), "{m}");
     }
+
+    #[test]
+    fn mixed_names_swapped_levels_and_any_order_keys() {
+        let text = r#"
+version = 1
+[[source]]
+name = "desk"
+path = "d.csv"
+id = "id"
+name_order = "mixed"
+[source.columns]
+full_name = "name"
+phone = "phone"
+[[compare]]
+attribute = "given_name"
+levels = ["exact", "subset", "swapped"]
+[[compare]]
+attribute = "phone"
+levels = ["verified", "exact", "national_number"]
+[[block]]
+name = "names"
+keys = ["soundex(given_name)", "soundex(family_name)"]
+any_order = true
+"#;
+        let spec = Spec::parse(text, Path::new("spec.toml")).unwrap();
+        assert_eq!(spec.sources[0].conventions.name_order, NameOrder::Mixed);
+        assert!(spec.blocks[0].any_order);
+        let err = |t: &str| match Spec::parse(t, Path::new("spec.toml")) {
+            Err(e) => e.to_string(),
+            Ok(_) => panic!("expected an error"),
+        };
+        let bad = text.replace(r#""exact", "subset", "swapped""#, r#""verified""#);
+        assert!(err(&bad).contains("only applies to phone"), "{}", err(&bad));
+        let bad = text.replace("any_order = true", "any_order = 1");
+        assert!(err(&bad).contains("true or false"), "{}", err(&bad));
+        let bad = text.replace(
+            r#"["soundex(given_name)", "soundex(family_name)"]"#,
+            r#"["soundex(given_name)"]"#,
+        );
+        assert!(
+            err(&bad).contains("at least two key parts"),
+            "{}",
+            err(&bad)
+        );
+    }
 }

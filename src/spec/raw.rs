@@ -152,6 +152,8 @@ pub struct RawBlock {
     pub name: Option<Loose<String>>,
     /// Key parts.
     pub keys: Option<LooseList<String>>,
+    /// Sort the parts' values before joining them.
+    pub any_order: Option<Loose<bool>>,
 }
 
 /// The `[decide]` table.
@@ -212,7 +214,7 @@ impl RawTable for RawCompare {
 }
 
 impl RawTable for RawBlock {
-    const KEYS: &'static [&'static str] = &["name", "keys"];
+    const KEYS: &'static [&'static str] = &["name", "keys", "any_order"];
 }
 
 impl RawTable for RawDecide {

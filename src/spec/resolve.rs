@@ -320,7 +320,7 @@ impl Resolver {
             Some(o) => NameOrder::from_name(o).ok_or_else(|| {
                 self.err(
                     join(at, "name_order"),
-                    format!("`{o}` is not allowed; use given_first or family_first"),
+                    format!("`{o}` is not allowed; use given_first, family_first or mixed"),
                 )
             })?,
         };
@@ -401,6 +401,7 @@ impl Resolver {
                 country,
                 date_order,
                 name_order,
+                ..Default::default()
             },
             columns,
         })
@@ -476,7 +477,27 @@ impl Resolver {
         if keys.is_empty() {
             return Err(self.err(keys_at, format!("must list at least one part: {KEY_HELP}")));
         }
-        Ok(BlockSpec { name, keys })
+        let any_order = match &b.any_order {
+            None => false,
+            Some(Loose::Typed(v)) => *v,
+            Some(Loose::Other(v)) => {
+                return Err(self.err(
+                    join(at, "any_order"),
+                    format!("expected true or false, found {}", type_name(v)),
+                ))
+            }
+        };
+        if any_order && keys.len() < 2 {
+            return Err(self.err(
+                join(at, "any_order"),
+                "needs at least two key parts to put in order",
+            ));
+        }
+        Ok(BlockSpec {
+            name,
+            keys,
+            any_order,
+        })
     }
 
     fn decide(&self, root: &RawSpec) -> Result<DecideSpec> {

@@ -73,6 +73,9 @@ pub enum NameOrder {
     GivenFirst,
     /// "Smith John".
     FamilyFirst,
+    /// Free text that mixes orders ("John Smith", "Smith John", "SMITH John",
+    /// "Smith, John"): decided per record ([`names::split_mixed`]).
+    Mixed,
 }
 
 impl DateOrder {
@@ -93,6 +96,7 @@ impl NameOrder {
         match name {
             "given_first" => Some(NameOrder::GivenFirst),
             "family_first" => Some(NameOrder::FamilyFirst),
+            "mixed" => Some(NameOrder::Mixed),
             _ => None,
         }
     }
@@ -114,6 +118,8 @@ pub struct Conventions {
     pub date_order: DateOrder,
     /// Name order of the source's full-name column.
     pub name_order: NameOrder,
+    /// Given- and family-name word counts of the run, for `NameOrder::Mixed`.
+    pub names: Option<std::sync::Arc<names::NameFrequencies>>,
 }
 
 /// Counts for one attribute.
@@ -256,7 +262,11 @@ pub fn standardize(raw: &StdRecord, conv: &Conventions, stats: &mut StdStats) ->
         out.set(Attr::FamilyName, f);
     }
     if let Some(v) = take(raw, Attr::FullName, stats) {
-        match names::split_full_name(v, conv.name_order, country) {
+        let split = match (&conv.names, conv.name_order) {
+            (Some(freqs), NameOrder::Mixed) => names::split_mixed(v, country, freqs),
+            _ => names::split_full_name(v, conv.name_order, country),
+        };
+        match split {
             None => {
                 count(Attr::FullName, Cleaned::Invalid, stats);
             }
@@ -401,6 +411,7 @@ mod tests {
             country: Some(country.to_string()),
             date_order,
             name_order,
+            ..Default::default()
         }
     }
 
@@ -628,7 +639,7 @@ mod tests {
         #[test]
         fn never_panics_and_counts_add_up(raw in any_record(), country in "[A-Z]{2}|\\PC{0,4}") {
             for order in [DateOrder::Ymd, DateOrder::Dmy, DateOrder::Mdy] {
-                let c = Conventions { country: Some(country.clone()), date_order: order, name_order: NameOrder::FamilyFirst };
+                let c = Conventions { country: Some(country.clone()), date_order: order, name_order: NameOrder::FamilyFirst, ..Default::default() };
                 let mut stats = StdStats::default();
                 let out = standardize(&raw, &c, &mut stats);
                 for s in stats.attrs {
@@ -670,6 +681,7 @@ mod tests {
                 country: Some(country.to_string()),
                 date_order: DateOrder::Ymd,
                 name_order: order,
+                ..Default::default()
             };
             let once = standardize(&r, &c, &mut StdStats::default());
             let twice = standardize(&once, &c, &mut StdStats::default());

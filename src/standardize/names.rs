@@ -36,7 +36,10 @@
 //!   of two or more words (`Jr van Aa`) is dropped as a suffix, because `van aa, jr`
 //!   would read back like `John Smith, Jr.`.
 
-use super::text::clean_text;
+use rustc_hash::FxHashMap;
+
+use super::nicknames::nickname_entry;
+use super::text::{clean_text, fold_for_comparison};
 use super::NameOrder;
 
 /// A standardized full name.
@@ -114,6 +117,8 @@ struct RawWord {
     key: String,
     dotted: bool,
     text: String,
+    /// Written in capitals: two or more letters, none of them lower-case.
+    caps: bool,
 }
 
 /// Split one comma part into raw words: on whitespace and after periods
@@ -130,6 +135,8 @@ fn raw_words(part: &str) -> Vec<RawWord> {
             rest = tail;
             let dotted = piece.ends_with('.');
             let text = clean_text(piece);
+            let caps = piece.chars().filter(|c| c.is_alphabetic()).count() >= 2
+                && !piece.chars().any(char::is_lowercase);
             // Punctuation inside a chunk can separate words ("jr#a" -> "jr", "a").
             let mut words = text.split(' ').filter(|w| !w.is_empty()).peekable();
             while let Some(w) = words.next() {
@@ -137,6 +144,7 @@ fn raw_words(part: &str) -> Vec<RawWord> {
                     key: w.replace('-', ""),
                     dotted: dotted && words.peek().is_none(),
                     text: w.to_string(),
+                    caps,
                 });
             }
         }
@@ -223,6 +231,9 @@ fn join(words: &[String]) -> Option<String> {
 /// Split a full name into given and family name (rules in the module doc).
 /// `None` when nothing usable is left.
 pub fn split_full_name(raw: &str, order: NameOrder, country: Option<&str>) -> Option<SplitName> {
+    if order == NameOrder::Mixed {
+        return split_mixed(raw, country, &NameFrequencies::default());
+    }
     split_two_plain_words(raw, order).or_else(|| split_full_name_general(raw, order, country))
 }
 
@@ -300,7 +311,7 @@ fn split_full_name_general(
                 (None, join(w))
             } else {
                 let (given, family) = match order {
-                    NameOrder::GivenFirst => {
+                    NameOrder::GivenFirst | NameOrder::Mixed => {
                         // Spanish naming: two family names ("María García López").
                         let two =
                             w.len() >= 3 && country.is_some_and(|c| SPANISH_SPEAKING.contains(&c));
@@ -348,6 +359,240 @@ fn split_full_name_general(
         family,
         stripped,
     })
+}
+
+/// How often each word was seen as a given name and as a family name in the sources of
+/// a run that keep the two apart (`given_name` and `family_name` columns). A
+/// `name_order = "mixed"` source reads its free-text names with these counts.
+///
+/// Words are counted in their compared form ([`fold_for_comparison`]), each word of a
+/// multi-word value once.
+#[derive(Debug, Clone, Default)]
+pub struct NameFrequencies {
+    given: FxHashMap<String, u32>,
+    family: FxHashMap<String, u32>,
+    given_total: u64,
+    family_total: u64,
+}
+
+/// Pseudo-count of given-name use for a word the nickname table knows (a given name or
+/// a diminutive), so that names the sources never showed still lean the right way.
+const NICKNAME_PSEUDO_COUNT: f64 = 2.0;
+
+/// Evidence (natural log odds) that one reading of a free-text name beats the source's
+/// default reading before it is taken: a factor of about 3.
+const MIXED_MARGIN: f64 = 1.1;
+
+impl NameFrequencies {
+    /// Count the words of a standardized given name.
+    pub fn add_given(&mut self, value: &str) {
+        for w in words_of(value) {
+            *self.given.entry(w).or_insert(0) += 1;
+            self.given_total += 1;
+        }
+    }
+
+    /// Count the words of a standardized family name (particles are not counted).
+    pub fn add_family(&mut self, value: &str) {
+        for w in words_of(value) {
+            if is_particle(&w) {
+                continue;
+            }
+            *self.family.entry(w).or_insert(0) += 1;
+            self.family_total += 1;
+        }
+    }
+
+    /// Add the counts of `other`.
+    pub fn merge(&mut self, other: NameFrequencies) {
+        for (w, n) in other.given {
+            *self.given.entry(w).or_insert(0) += n;
+        }
+        for (w, n) in other.family {
+            *self.family.entry(w).or_insert(0) += n;
+        }
+        self.given_total += other.given_total;
+        self.family_total += other.family_total;
+    }
+
+    /// Number of given-name and family-name words counted.
+    pub fn totals(&self) -> (u64, u64) {
+        (self.given_total, self.family_total)
+    }
+
+    /// Log odds that `word` (a cleaned name word) is a given name rather than a family
+    /// name: `ln((g + ½) / (G + ½)) − ln((f + ½) / (F + ½))` with `g`, `f` its counts and
+    /// `G`, `F` the totals (add-half smoothing), plus a pseudo-count for words of the
+    /// nickname table. 0 for a word seen in neither role.
+    pub fn given_log_odds(&self, word: &str) -> f64 {
+        let key = word_key(word);
+        if key.chars().count() < 2 || is_particle(&key) {
+            return 0.0;
+        }
+        let mut g = self.given.get(key.as_str()).copied().unwrap_or(0) as f64;
+        let f = self.family.get(key.as_str()).copied().unwrap_or(0) as f64;
+        if nickname_entry(&key).is_some() {
+            g += NICKNAME_PSEUDO_COUNT;
+        }
+        if g == 0.0 && f == 0.0 {
+            return 0.0;
+        }
+        let gt = self.given_total as f64 + 0.5;
+        let ft = self.family_total as f64 + 0.5;
+        ((g + 0.5) / gt).ln() - ((f + 0.5) / ft).ln()
+    }
+}
+
+/// The counted form of a name word: compared form without hyphens.
+fn word_key(word: &str) -> String {
+    fold_for_comparison(word).replace('-', "")
+}
+
+/// The counted words of a name value (two or more characters).
+fn words_of(value: &str) -> impl Iterator<Item = String> + '_ {
+    value
+        .split(' ')
+        .map(word_key)
+        .filter(|w| w.chars().count() > 1)
+}
+
+/// A candidate reading of a free-text name: given words and family words, by index.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Reading {
+    /// `given = words[..k]`, `family = words[k..]`.
+    GivenFirst(usize),
+    /// `family = words[..k]`, `given = words[k..]`.
+    FamilyFirst(usize),
+}
+
+impl Reading {
+    fn parts(self, w: &[String]) -> (&[String], &[String]) {
+        match self {
+            Reading::GivenFirst(k) => (&w[..k], &w[k..]),
+            Reading::FamilyFirst(k) => (&w[k..], &w[..k]),
+        }
+    }
+}
+
+/// Split a free-text full name whose order varies from record to record
+/// (`name_order = "mixed"`), from evidence in the record itself:
+///
+/// 1. A comma: `Family, Given` (as for every order).
+/// 2. Capitals: when some words are written in capitals and others are not, a leading
+///    or trailing run of capitalised words is the family name (`LANGE Mechthilde`,
+///    `Mechthilde LANGE`), a convention in many countries (common practice, no source).
+/// 3. Word frequencies: every split into a leading and a trailing part, in either
+///    order, is scored by the log odds of its words being given or family names
+///    ([`NameFrequencies::given_log_odds`], learned from the run's sources with
+///    separate name columns, and the nickname table). A particle ends no part.
+///    The best reading is taken when it beats the given-first reading (the default) by
+///    [`MIXED_MARGIN`]; otherwise the default stays, and the comparison's `swapped`
+///    level and any-order blocking keys cover the other reading.
+///
+/// A single word is a given name when the frequencies say so (log odds > margin), else
+/// a family name, as in the other orders.
+pub fn split_mixed(raw: &str, country: Option<&str>, freqs: &NameFrequencies) -> Option<SplitName> {
+    if raw.contains([',', ';']) {
+        return split_full_name_general(raw, NameOrder::GivenFirst, country);
+    }
+    let words = raw_words(raw);
+    // Titles and suffixes at the edges, as `strip` does, keeping the capitals flags.
+    let (mut a, mut b) = (0, words.len());
+    while b - a > 1 && is_title(&words[a], country) {
+        a += 1;
+    }
+    while b - a > 1 && is_suffix(&words[b - 1]) {
+        b -= 1;
+    }
+    let mut stripped = a > 0 || b < words.len();
+    let kept = &words[a..b];
+    let w: Vec<String> = kept.iter().map(|w| w.text.clone()).collect();
+    let (given, family) = match w.len() {
+        0 => return None,
+        1 => {
+            if freqs.given_log_odds(&w[0]) > MIXED_MARGIN {
+                (join(&w), None)
+            } else {
+                (None, join(&w))
+            }
+        }
+        n => {
+            let reading = choose_reading(kept, &w, country, freqs);
+            let (given, family) = reading.parts(&w);
+            let (given, sg) = tidy(given);
+            let (family, sf) = tidy(family);
+            stripped |= sg || sf;
+            debug_assert!(n >= 2);
+            if family.len() >= 2 && given.iter().all(|w| is_suffix_or_title_text(w)) {
+                stripped |= !given.is_empty();
+                (None, join(family))
+            } else {
+                (join(given), join(family))
+            }
+        }
+    };
+    Some(SplitName {
+        given,
+        family,
+        stripped,
+    })
+}
+
+/// The reading of two or more words (rules in [`split_mixed`]).
+fn choose_reading(
+    raw: &[RawWord],
+    w: &[String],
+    country: Option<&str>,
+    freqs: &NameFrequencies,
+) -> Reading {
+    let n = w.len();
+    // The default: given-first, family = last word with its particles (two family
+    // names in Spanish-speaking countries), as `split_full_name_general` reads it.
+    let two = n >= 3 && country.is_some_and(|c| SPANISH_SPEAKING.contains(&c));
+    let mut start = n - if two { 2 } else { 1 };
+    while start >= 2 && is_particle(&w[start - 1]) {
+        start -= 1;
+    }
+    let default = Reading::GivenFirst(start);
+    // Capitals: some words in capitals, some not.
+    let caps: Vec<bool> = raw.iter().map(|r| r.caps).collect();
+    if caps.iter().any(|c| *c) && caps.iter().any(|c| !*c) {
+        let lead = caps.iter().take_while(|c| **c).count();
+        let trail = caps.iter().rev().take_while(|c| **c).count();
+        if lead > 0 && lead + caps.iter().skip(lead).filter(|c| **c).count() == lead {
+            return Reading::FamilyFirst(lead);
+        }
+        if trail > 0 && trail + caps[..n - trail].iter().filter(|c| **c).count() == trail {
+            return Reading::GivenFirst(n - trail);
+        }
+    }
+    let odds: Vec<f64> = w.iter().map(|x| freqs.given_log_odds(x)).collect();
+    let score = |r: Reading| -> f64 {
+        let (g, f) = match r {
+            Reading::GivenFirst(k) => (0..k, k..n),
+            Reading::FamilyFirst(k) => (k..n, 0..k),
+        };
+        g.map(|i| odds[i]).sum::<f64>() - f.map(|i| odds[i]).sum::<f64>()
+    };
+    let base = score(default);
+    let mut best = (default, base);
+    for k in 1..n {
+        // A particle belongs to the word after it, so no part ends with one.
+        if is_particle(&w[k - 1]) {
+            continue;
+        }
+        for r in [Reading::GivenFirst(k), Reading::FamilyFirst(k)] {
+            let s = score(r);
+            if s > best.1 {
+                best = (r, s);
+            }
+        }
+    }
+    if best.1 > base + MIXED_MARGIN {
+        best.0
+    } else {
+        default
+    }
 }
 
 #[cfg(test)]
@@ -564,5 +809,138 @@ mod tests {
         );
         assert_eq!(clean_name_part("Müller", None).0.as_deref(), Some("müller"));
         assert_eq!(clean_name_part("...", None).0, None);
+    }
+
+    /// Counts as a structured source would give them (invented names).
+    fn freqs() -> NameFrequencies {
+        let mut f = NameFrequencies::default();
+        for g in [
+            "mechthilde",
+            "maría josé",
+            "josé",
+            "anna",
+            "jacqueline",
+            "dominique",
+            "hans-peter",
+        ] {
+            for _ in 0..5 {
+                f.add_given(g);
+            }
+        }
+        for fam in [
+            "lange",
+            "garcía",
+            "pazos",
+            "bailes",
+            "joly",
+            "van der berg",
+            "ortega",
+        ] {
+            for _ in 0..5 {
+                f.add_family(fam);
+            }
+        }
+        f
+    }
+
+    fn mixed(raw: &str, f: &NameFrequencies) -> (Option<String>, Option<String>) {
+        let s = split_mixed(raw, Some("DE"), f).unwrap();
+        (s.given, s.family)
+    }
+
+    #[test]
+    fn mixed_order_decides_per_record() {
+        let f = freqs();
+        // Frequencies: either order of the same two words.
+        assert_eq!(mixed("Lange Mechthilde", &f), gf("mechthilde", "lange"));
+        assert_eq!(mixed("Mechthilde Lange", &f), gf("mechthilde", "lange"));
+        assert_eq!(mixed("Bailes  Jacqueline", &f), gf("jacqueline", "bailes"));
+        // Hyphenated given names are looked up whole.
+        assert_eq!(mixed("Lange Hans-Peter", &f), gf("hans-peter", "lange"));
+        // Capitals mark the family name, a convention in many countries (common
+        // practice, no source), whatever the counts say.
+        assert_eq!(mixed("JOLY Dominique", &f), gf("dominique", "joly"));
+        assert_eq!(mixed("Dominique JOLY", &f), gf("dominique", "joly"));
+        assert_eq!(
+            mixed("ZANDER Quirin", &NameFrequencies::default()),
+            gf("quirin", "zander")
+        );
+        // All in capitals is no evidence: the default reading (given first).
+        assert_eq!(
+            mixed("QUIRIN ZANDER", &NameFrequencies::default()),
+            gf("quirin", "zander")
+        );
+        // A comma: family first.
+        assert_eq!(
+            mixed("Zander, Quirin", &NameFrequencies::default()),
+            gf("quirin", "zander")
+        );
+        // Unknown words: the default reading.
+        assert_eq!(
+            mixed("Quirin Zander", &NameFrequencies::default()),
+            gf("quirin", "zander")
+        );
+        // Two given names kept whole, two family names kept whole.
+        assert_eq!(mixed("María José García", &f), gf("maría josé", "garcía"));
+        assert_eq!(
+            mixed("García Ortega María José", &f),
+            gf("maría josé", "garcía ortega")
+        );
+        assert_eq!(mixed("Anna Pazos Ortega", &f), gf("anna", "pazos ortega"));
+        // Particles stay with the family name.
+        assert_eq!(mixed("van der Berg Anna", &f), gf("anna", "van der berg"));
+        assert_eq!(mixed("Anna van der Berg", &f), gf("anna", "van der berg"));
+        // Titles and suffixes go, as in the other orders.
+        assert_eq!(mixed("Dr. Lange Mechthilde", &f), gf("mechthilde", "lange"));
+    }
+
+    #[test]
+    fn mixed_single_words_follow_the_counts_and_the_nickname_table() {
+        let f = freqs();
+        assert_eq!(mixed("Jacqueline", &f), (Some("jacqueline".into()), None));
+        assert_eq!(mixed("Lange", &f), (None, Some("lange".into())));
+        // Unknown: a family name, as in the other orders.
+        assert_eq!(mixed("Zander", &f), (None, Some("zander".into())));
+        // Known to the nickname table (a given name there) without any counts.
+        assert_eq!(
+            mixed("William", &NameFrequencies::default()),
+            (Some("william".into()), None)
+        );
+    }
+
+    #[test]
+    fn name_frequency_log_odds() {
+        let f = freqs();
+        // 5 of 40 given words vs 0 of 35 family words (hand-computed):
+        // ln(5.5 / 40.5) - ln(0.5 / 35.5) = ln(0.13580) - ln(0.01408) = 2.2664.
+        assert!((f.given_log_odds("Mechthilde") - 2.2664).abs() < 1e-3);
+        assert!(f.given_log_odds("lange") < -2.0);
+        assert_eq!(f.given_log_odds("zander"), 0.0);
+        assert_eq!(f.given_log_odds("van"), 0.0);
+        assert_eq!(f.totals(), (40, 35));
+    }
+
+    proptest! {
+        /// The standardized form (`family, given`) reads back to the same parts, with
+        /// or without counts.
+        #[test]
+        fn mixed_split_read_again_changes_nothing(
+            words in proptest::collection::vec(
+                "Anna|ANNA|Mechthilde|LANGE|Lange|García|Ortega|josé|María|van|der|Berg|Jr|Dr|Zander|X\\.",
+                1..5,
+            ),
+            comma in proptest::bool::ANY,
+            use_counts in proptest::bool::ANY,
+        ) {
+            let f = if use_counts { freqs() } else { NameFrequencies::default() };
+            let mut raw = words.join(" ");
+            if comma && words.len() > 1 {
+                raw = format!("{}, {}", words[0], words[1..].join(" "));
+            }
+            let Some(once) = split_mixed(&raw, Some("ES"), &f) else { return Ok(()) };
+            let full = once.full().unwrap();
+            let twice = split_mixed(&full, Some("ES"), &f).unwrap();
+            prop_assert_eq!((&twice.given, &twice.family), (&once.given, &once.family), "{} -> {}", raw, full);
+        }
     }
 }

@@ -37,6 +37,41 @@ use super::Cleaned;
 /// Longest E.164 number in digits (ITU-T E.164 §6).
 pub const E164_MAX_DIGITS: usize = 15;
 
+/// Mark at the end of a standardized phone number that is possible but not valid by
+/// the numbering plan's metadata (`+15814586944?`), or whose region could not be
+/// decided (`0612345678?`, the digits as written).
+pub const UNVERIFIED_MARK: char = '?';
+
+/// The national significant number of a standardized phone value: the digits after
+/// the country calling code (country codes are prefix-free, ITU-T E.164 §6.2.1), or,
+/// for a number without a country code, its digits without leading zeros (the trunk
+/// prefix `0` of most numbering plans). `None` when nothing is left.
+pub fn national_number_of(value: &str) -> Option<String> {
+    let v = value.strip_suffix(UNVERIFIED_MARK).unwrap_or(value);
+    let national = match v.strip_prefix('+') {
+        Some(digits) => {
+            if !digits.bytes().all(|b| b.is_ascii_digit()) {
+                return None;
+            }
+            let len = (1..=3.min(digits.len())).find(|&len| {
+                digits[..len]
+                    .parse::<u16>()
+                    .ok()
+                    .and_then(calling_code)
+                    .is_some()
+            })?;
+            digits[len..].trim_start_matches('0')
+        }
+        None => {
+            if !v.bytes().all(|b| b.is_ascii_digit()) {
+                return None;
+            }
+            v.trim_start_matches('0')
+        }
+    };
+    (national.len() >= 4).then(|| national.to_string())
+}
+
 /// A metadata pattern as a match that must start at 0: the crate accepts
 /// `find(..).start() == 0`, and `^(?:..)` is the same test.
 fn anchored_text(pattern: &str) -> String {
