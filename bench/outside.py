@@ -171,8 +171,9 @@ def main():
 
         if not args.skip_oracle:
             print("== samekey oracle fit on %s" % row["set"], flush=True)
-            model = os.path.join(data, "oracle-model.toml")
-            timed([args.samekey, "train", "--spec", spec, "--out", model, "--oracle-truth",
+            model = os.path.join(data, "oracle-model", "model.toml")
+            timed([args.samekey, "train", "--spec", spec, "--out",
+                   os.path.join(data, "oracle-model"), "--oracle-truth",
                    truth_sk], os.path.join(data, "train-oracle.log"))
             out_o = os.path.join(data, "out-oracle")
             timed([args.samekey, "link", "--spec", spec, "--out", out_o, "--model", model,

@@ -26,8 +26,8 @@ scores() { grep -E "^(pairwise|B-cubed)|precision   " "$1" | sed 's/^/    /'; }
 echo "== 1. unsupervised vs oracle fit ($N customers, seed $SEED)"
 $K --quiet synth --customers "$N" --seed "$SEED" --out "$W/data"
 $K link --spec "$W/data/spec.toml" --out "$W/unsup" --pairs linked --truth "$W/data/truth.csv" > "$W/unsup.txt"
-$K --quiet train --spec "$W/data/spec.toml" --oracle-truth "$W/data/truth.csv" --out "$W/oracle.toml"
-$K link --spec "$W/data/spec.toml" --model "$W/oracle.toml" --out "$W/oracle" --pairs linked --truth "$W/data/truth.csv" > "$W/oracle.txt"
+$K --quiet train --spec "$W/data/spec.toml" --oracle-truth "$W/data/truth.csv" --out "$W/oracle-model"
+$K link --spec "$W/data/spec.toml" --model "$W/oracle-model/model.toml" --out "$W/oracle" --pairs linked --truth "$W/data/truth.csv" > "$W/oracle.txt"
 echo "  unsupervised (EM, no labels):"; scores "$W/unsup.txt"
 echo "  oracle (fitted from true labels):"; scores "$W/oracle.txt"
 

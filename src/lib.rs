@@ -28,6 +28,7 @@ pub mod sources;
 pub mod spec;
 pub mod standardize;
 pub mod store;
+pub mod summary;
 pub mod synth;
 pub mod util;
 

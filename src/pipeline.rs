@@ -11,7 +11,7 @@ use std::path::{Path, PathBuf};
 use std::time::Instant;
 
 use crate::cluster::{Clusters, Edge, SpecGuards};
-use crate::decide::{Decider, Estimate};
+use crate::decide::Decider;
 use crate::error::{Error, Result};
 use crate::model::{self, Model};
 use crate::output::{
@@ -21,11 +21,10 @@ use crate::output::{
 use crate::prepare::{PrepareOptions, Prepared};
 use crate::record::RecordTable;
 use crate::score::{score_all, threshold_for_target, PairScorer};
-use crate::sources::SourceReport;
 use crate::spec::Spec;
-use crate::standardize::StdStats;
+use crate::summary::{run_id, KeySummary, MergeSummary, RunSummary};
 use crate::util::cpu::process_cpu_time;
-use crate::util::{Progress, Timings};
+use crate::util::Progress;
 
 /// How to run.
 #[derive(Debug, Clone, Default)]
@@ -43,61 +42,6 @@ pub struct RunOptions {
     pub shard: Option<(usize, usize)>,
     /// Show progress bars on stderr (only when it is a terminal).
     pub progress: bool,
-}
-
-/// Candidate pairs of one blocking key.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct KeySummary {
-    /// Key name.
-    pub name: String,
-    /// Pairs inside the key's blocks.
-    pub raw_pairs: u64,
-    /// Pairs first produced by this key (compared).
-    pub new_pairs: u64,
-    /// Number of blocks.
-    pub blocks: usize,
-    /// Largest block size.
-    pub largest_block: usize,
-}
-
-/// What a run did.
-#[derive(Debug, Clone)]
-pub struct RunSummary {
-    /// Per source: rows read, accepted, rejected.
-    pub sources: Vec<SourceReport>,
-    /// Standardization counts.
-    pub std_stats: StdStats,
-    /// Records linked.
-    pub records: usize,
-    /// Per blocking key.
-    pub keys: Vec<KeySummary>,
-    /// The model used.
-    pub model: Model,
-    /// True when the model was fitted in this run (false: loaded with `--model`).
-    pub fitted: bool,
-    /// The decision thresholds (as log2 odds).
-    pub decider: Decider,
-    /// The model's own estimate of precision and recall at the match threshold.
-    pub estimate: Estimate,
-    /// Pairs per decision, indexed by `Decision as usize`: match, review, non_match.
-    pub decisions: [u64; 3],
-    /// Customers (clusters) found (0 for a shard run).
-    pub customers: usize,
-    /// The shard scored, if the run was one shard of several.
-    pub shard: Option<(usize, usize)>,
-    /// Merges refused by the clustering guards.
-    pub refused_merges: usize,
-    /// Files written.
-    pub outputs: Vec<PathBuf>,
-    /// Wall time per stage.
-    pub timings: Timings,
-}
-
-impl RunSummary {
-    /// All candidate pairs compared.
-    pub fn candidate_pairs(&self) -> u64 {
-        self.keys.iter().map(|k| k.new_pairs).sum()
-    }
 }
 
 /// Run the whole pipeline and write the outputs.
@@ -149,7 +93,9 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
             )?;
             bar.finish();
             clock = t.record("compare (count vectors)", clock);
+            let spin = Progress::spinner(opts.progress, "fit (EM)");
             let m = model::train::fit_counts(spec, &p.table, &p.comparison, &c)?;
+            spin.finish();
             clock = t.record("fit (EM)", clock);
             counts = Some(c);
             (m, true)
@@ -196,21 +142,23 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     let clusters = if opts.shard.is_some() {
         None
     } else {
+        let spin = Progress::spinner(opts.progress, "cluster + keys");
         let c = cluster_and_write(spec, p, &edges.edges, &mut staging)?;
+        spin.finish();
         clock = t.record("cluster + keys", clock);
         Some(c)
     };
+    let spin = Progress::spinner(opts.progress, "write outputs");
     review.write(&mut staging)?;
     let mut w = staging.csv("rejects.csv")?;
     write_rejects(&mut w, &p.rejects)?;
     w.finish()?;
     let model_path = staging.path("model.toml");
     model.save(&model_path)?;
-    let outputs = staging.commit()?;
-    t.record("write outputs", clock);
 
     let decider = *scorer.decider();
-    Ok(RunSummary {
+    let mut summary = RunSummary {
+        run_id: run_id(),
         sources: p.reports.clone(),
         std_stats: p.stats.clone(),
         records: p.table.len(),
@@ -223,15 +171,27 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         customers: clusters.as_ref().map_or(0, |c| c.count()),
         refused_merges: clusters.as_ref().map_or(0, |c| c.refused.len()),
         shard: opts.shard,
-        outputs,
-        timings: Timings {
-            process_cpu: process_cpu_time()
-                .zip(cpu_start)
-                .map(|(b, a)| b.saturating_sub(a)),
-            ..t
-        },
-    })
+        outputs: Vec::new(),
+        timings: t,
+    };
+    // summary.json is part of the output set: it names every file beside it and holds
+    // the stage timings up to this point.
+    let json_path = staging.path(SUMMARY_FILE);
+    summary.outputs = staging.files().iter().map(|f| opts.out.join(f)).collect();
+    let text = serde_json::to_string_pretty(&summary.to_json())
+        .map_err(|e| Error::Internal(format!("summary.json: {e}")))?;
+    std::fs::write(&json_path, text + "\n").map_err(|e| Error::io(&json_path, e))?;
+    summary.outputs = staging.commit()?;
+    spin.finish();
+    summary.timings.record("write outputs", clock);
+    summary.timings.process_cpu = process_cpu_time()
+        .zip(cpu_start)
+        .map(|(b, a)| b.saturating_sub(a));
+    Ok(summary)
 }
+
+/// The name of the run summary written into `link`'s output folder.
+pub const SUMMARY_FILE: &str = "summary.json";
 
 /// Per blocking key: its pairs and blocks, and `new_pairs[k]` pairs it produced first.
 fn key_summaries(p: &Prepared, new_pairs: &[u64]) -> Vec<KeySummary> {
@@ -274,21 +234,6 @@ fn write_keys(
     write_refused(staging, table, clusters, &guards.unique_names)
 }
 
-/// What `merge` did.
-#[derive(Debug, Clone)]
-pub struct MergeSummary {
-    /// Records linked.
-    pub records: usize,
-    /// Matched pairs read from the shards.
-    pub match_pairs: u64,
-    /// Customers found.
-    pub customers: usize,
-    /// Merges refused by the guards.
-    pub refused_merges: usize,
-    /// Files written.
-    pub outputs: Vec<PathBuf>,
-}
-
 /// Cluster the matched pairs of several shard runs (their `pairs.csv`) into one
 /// crosswalk, exactly as an unsharded run would.
 pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path, progress: bool) -> Result<MergeSummary> {
@@ -308,6 +253,7 @@ pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path, progress: bool) -> Res
     let clusters = cluster_and_write(spec, &p, &edges, &mut staging)?;
     let outputs = staging.commit()?;
     Ok(MergeSummary {
+        shards: shards.len(),
         records: p.table.len(),
         match_pairs: edges.len() as u64,
         customers: clusters.count(),
@@ -353,6 +299,7 @@ mod tests {
             "review.csv",
             "rejects.csv",
             "model.toml",
+            "summary.json",
         ] {
             assert!(names.iter().any(|n| n == f), "{f} missing from {names:?}");
         }

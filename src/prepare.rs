@@ -56,7 +56,7 @@ impl Prepared {
     pub fn new(spec: &Spec, opts: PrepareOptions) -> Result<Prepared> {
         let mut timings = Timings::default();
         let clock = Instant::now();
-        let bar = Progress::counter(opts.progress, "read + standardize", "rows");
+        let bar = Progress::counter(opts.progress, "read + standardize", "records");
         let loaded = sources::load_with(&spec.sources, &bar)?;
         bar.finish();
         timings.standardize_cpu = loaded.standardize_cpu;

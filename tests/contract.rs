@@ -33,6 +33,28 @@ fn first_line(path: &std::path::Path) -> String {
     text.lines().next().unwrap_or("").to_string()
 }
 
+fn key_paths(v: &serde_json::Value, at: &str, out: &mut Vec<String>) {
+    match v {
+        serde_json::Value::Object(m) => {
+            for (k, x) in m {
+                let p = if at.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{at}.{k}")
+                };
+                out.push(p.clone());
+                key_paths(x, &p, out);
+            }
+        }
+        serde_json::Value::Array(a) => {
+            if let Some(x) = a.first() {
+                key_paths(x, &format!("{at}[]"), out);
+            }
+        }
+        _ => {}
+    }
+}
+
 #[test]
 fn every_output_header_is_pinned() {
     let dir = mini_copy();
@@ -49,6 +71,12 @@ fn every_output_header_is_pinned() {
     ] {
         snap.push_str(&format!("{f}: {}\n", first_line(&out.join(f))));
     }
+    // summary.json: every key path (objects by key, arrays by their first element).
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    let mut paths = Vec::new();
+    key_paths(&summary, "", &mut paths);
+    snap.push_str(&format!("summary.json: {}\n", paths.join(",")));
     snapshot("output_headers.txt", &snap);
 }
 

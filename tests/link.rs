@@ -128,18 +128,20 @@ fn same_input_same_keys_for_any_thread_count_and_with_a_saved_model() {
 fn train_saves_a_model_that_link_accepts() {
     let dir = mini_copy();
     let spec = dir.path().join("spec.toml");
-    let model = dir.path().join("m.toml");
+    let folder = dir.path().join("m");
     let o = run(
         &[
             "train",
             "--spec",
             spec.to_str().unwrap(),
             "--out",
-            model.to_str().unwrap(),
+            folder.to_str().unwrap(),
         ],
         None,
     );
     assert!(o.status.success(), "{}", text(&o).1);
+    // --out is a folder; the model is model.toml inside it.
+    let model = folder.join("model.toml");
     let m = std::fs::read_to_string(&model).unwrap();
     assert!(
         m.contains("format = \"samekey-model\"") && m.contains("[[attribute]]"),
@@ -183,9 +185,12 @@ fn sharded_runs_merge_into_the_unsharded_crosswalk() {
     let dir = mini_copy();
     let d = dir.path();
     let spec = d.join("spec.toml");
-    let model = d.join("model.toml");
+    let model = d.join("fit/model.toml");
     let s = |p: &std::path::Path| p.to_str().unwrap().to_string();
-    let o = run(&["train", "--spec", &s(&spec), "--out", &s(&model)], None);
+    let o = run(
+        &["train", "--spec", &s(&spec), "--out", &s(&d.join("fit"))],
+        None,
+    );
     assert!(o.status.success(), "{}", text(&o).1);
     let o = link(d, "whole", &["--model", &s(&model)], None);
     assert!(o.status.success(), "{}", text(&o).1);
@@ -241,8 +246,9 @@ fn explain_shows_levels_values_and_bits() {
     let dir = mini_copy();
     let d = dir.path();
     let spec = d.join("spec.toml").to_str().unwrap().to_string();
-    let model = d.join("m.toml").to_str().unwrap().to_string();
-    assert!(run(&["train", "--spec", &spec, "--out", &model], None)
+    let folder = d.join("m").to_str().unwrap().to_string();
+    let model = d.join("m/model.toml").to_str().unwrap().to_string();
+    assert!(run(&["train", "--spec", &spec, "--out", &folder], None)
         .status
         .success());
     let o = run(

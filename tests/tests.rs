@@ -1,6 +1,7 @@
 //! Integration tests: run the `samekey` binary on small data.
 
 mod bad_input;
+mod cli;
 mod common;
 mod contract;
 mod evaluate;

@@ -29,8 +29,11 @@ pub struct Args {
 }
 
 /// Run `samekey evaluate`.
-pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
+pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let metrics = compute(args)?;
+    if global.quiet {
+        return Ok(());
+    }
     for w in warnings(&metrics) {
         eprintln!("warning: {w}");
     }

@@ -15,7 +15,8 @@ pub struct Args {
     /// The linkage spec (TOML).
     #[arg(long)]
     pub spec: PathBuf,
-    /// Output folder for crosswalk.csv, pairs.csv, review.csv, rejects.csv, model.toml.
+    /// Output folder for crosswalk.csv, pairs.csv, review.csv, rejects.csv, refused.csv,
+    /// model.toml and summary.json.
     #[arg(long)]
     pub out: PathBuf,
     /// Use this fitted model instead of fitting one (see `samekey train`).
@@ -34,9 +35,12 @@ pub struct Args {
     /// outputs with `samekey merge`.
     #[arg(long, value_name = "I/N", value_parser = parse_shard)]
     pub shard: Option<(usize, usize)>,
-    /// Print the time spent per stage (also with --quiet).
+    /// Print the time spent per stage.
     #[arg(long)]
     pub timings: bool,
+    /// Print the run summary as JSON (the content of OUT/summary.json) instead of text.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Parse `I/N` with 1 ≤ I ≤ N into a 0-based shard index and the shard count.
@@ -94,8 +98,16 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
             .into());
         }
     }
+    if args.json && args.truth.is_some() {
+        return Err(samekey::Error::Usage(
+            "--json prints the run summary only; score the outputs against the truth file \
+             with `samekey evaluate --json` instead of --truth"
+                .into(),
+        )
+        .into());
+    }
     let opts = RunOptions {
-        progress: !global.quiet,
+        progress: !global.quiet && !args.json,
         shard: args.shard,
         target_precision: args.target_precision,
         out: args.out.clone(),
@@ -103,12 +115,14 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         pairs: args.pairs.into(),
     };
     let summary = pipeline::run(&spec, &opts)?;
-    if !global.quiet {
-        summary::print(&summary, args.timings);
-    } else if args.timings {
-        // --timings is an explicit request; --quiet silences the rest.
-        summary::print_timings(&summary.timings);
+    if global.quiet {
+        return Ok(());
     }
+    if args.json {
+        println!("{}", serde_json::to_string_pretty(&summary.to_json())?);
+        return Ok(());
+    }
+    summary::print(&summary, args.timings);
     if let Some(truth) = &args.truth {
         summary::print_actual(truth, &args.out, &summary, global)?;
     }

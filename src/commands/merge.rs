@@ -19,13 +19,21 @@ pub struct Args {
     /// Output folders of the shard runs (`samekey link --shard I/N`).
     #[arg(required = true)]
     pub shards: Vec<PathBuf>,
+    /// Print the summary as JSON.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Run `samekey merge`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
-    let s = pipeline::merge(&spec, &args.shards, &args.out, !global.quiet)?;
-    if !global.quiet {
+    let s = pipeline::merge(&spec, &args.shards, &args.out, !global.quiet && !args.json)?;
+    if global.quiet {
+        return Ok(());
+    }
+    if args.json {
+        println!("{}", serde_json::to_string_pretty(&s.to_json())?);
+    } else {
         println!(
             "merged {} shard(s): {} matched pairs, {} records, {} customers, {} merges refused",
             args.shards.len(),

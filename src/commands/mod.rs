@@ -21,7 +21,7 @@ pub mod train;
 #[derive(Debug, Parser)]
 #[command(name = "samekey", version, about, long_about = None)]
 pub struct Cli {
-    /// Print nothing but errors (and the stage timings when --timings asks for them).
+    /// Print nothing but errors: no progress, no summary, no JSON, no timings.
     #[arg(long, global = true)]
     pub quiet: bool,
     #[command(subcommand)]

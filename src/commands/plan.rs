@@ -21,10 +21,13 @@ pub struct Args {
     /// How many of the largest blocks to list per key.
     #[arg(long, default_value_t = 5)]
     pub top: usize,
+    /// Print the plan as JSON.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Run `samekey plan`.
-pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
+pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = Spec::load(&args.spec)?;
     let loaded = sources::load(&spec.sources)?;
     let table = &loaded.table;
@@ -39,6 +42,34 @@ pub fn run(args: &Args, _global: Global) -> anyhow::Result<()> {
     let plans = block::plan(&blocking, entity.as_deref(), args.top);
     let n = table.len() as u64;
     let all = n * n.saturating_sub(1) / 2;
+    if global.quiet {
+        return Ok(());
+    }
+    if args.json {
+        let limit = spec.model.max_pairs_per_key;
+        let total: u64 = plans.iter().map(|p| p.new_pairs).sum();
+        let v = serde_json::json!({
+            "command": "plan",
+            "records": n,
+            "record_pairs": all,
+            "estimated_candidate_pairs": total,
+            "reduction_ratio": 1.0 - total as f64 / all.max(1) as f64,
+            "max_pairs_per_key": limit,
+            "keys": plans.iter().map(|p| serde_json::json!({
+                "key": p.name,
+                "records": p.records_keyed,
+                "blocks": p.blocks,
+                "pairs": p.raw_pairs,
+                "new_pairs_estimated": p.new_pairs,
+                "completeness": p.completeness,
+                "cumulative_completeness": p.cumulative_completeness,
+                "over_limit": p.raw_pairs > limit,
+                "largest_blocks": p.largest.iter().map(|(v, n)| serde_json::json!({"value": v, "records": n})).collect::<Vec<_>>(),
+            })).collect::<Vec<_>>(),
+        });
+        println!("{}", serde_json::to_string_pretty(&v)?);
+        return Ok(());
+    }
     println!("{} records, {} record pairs in all\n", n, all);
     println!(
         "{:<20} {:>9} {:>8} {:>14} {:>14} {:>9} {:>9}",

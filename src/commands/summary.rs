@@ -1,7 +1,7 @@
 //! The run summary printed by `link` and `demo`.
 
-use samekey::pipeline::RunSummary;
 use samekey::record::Attr;
+use samekey::summary::RunSummary;
 
 /// Print what a run did, in the order the stages ran.
 pub fn print(s: &RunSummary, timings: bool) {
@@ -107,7 +107,7 @@ pub fn print(s: &RunSummary, timings: bool) {
         println!();
         print_timings(&s.timings);
     }
-    println!("\nOutputs");
+    println!("\nOutputs (run {})", s.run_id);
     for p in &s.outputs {
         println!("  {}", p.display());
     }

@@ -91,6 +91,11 @@ impl Staging {
         self.dir.join(name)
     }
 
+    /// Names of the files staged so far, in staging order.
+    pub fn files(&self) -> &[String] {
+        &self.files
+    }
+
     /// A buffered CSV writer for the staged file `name`.
     pub fn csv(&mut self, name: &str) -> Result<CsvOut> {
         let path = self.path(name);
