@@ -180,7 +180,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     summary.outputs = staging.files().iter().map(|f| opts.out.join(f)).collect();
     let text = serde_json::to_string_pretty(&summary.to_json())
         .map_err(|e| Error::Internal(format!("summary.json: {e}")))?;
-    std::fs::write(&json_path, text + "\n").map_err(|e| Error::io(&json_path, e))?;
+    std::fs::write(&json_path, text + "\n").map_err(|e| Error::write(&json_path, e))?;
     summary.outputs = staging.commit()?;
     spin.finish();
     summary.timings.record("write outputs", clock);

@@ -363,7 +363,7 @@ fn target_precision_moves_the_match_threshold() {
 #[test]
 fn timings_report_stages_and_the_cpu_share_of_standardizing() {
     let dir = mini_copy();
-    let o = link(dir.path(), "out", &["--quiet", "--timings"], Some(2));
+    let o = link(dir.path(), "out", &["--timings"], Some(2));
     let (stdout, stderr) = text(&o);
     assert!(o.status.success(), "{stderr}");
     for stage in ["read + standardize", "block", "score", "total"] {

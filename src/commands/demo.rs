@@ -100,11 +100,11 @@ fn write_builtin() -> anyhow::Result<TempFolder> {
     ));
     // create_dir, not create_dir_all: a folder of that name that already exists is
     // somebody else's and is not written into.
-    std::fs::create_dir(&path).map_err(|e| samekey::Error::io(&path, e))?;
+    std::fs::create_dir(&path).map_err(|e| samekey::Error::write(&path, e))?;
     let dir = TempFolder(path);
     for (name, text) in DEMO_FILES {
         let p = dir.path().join(name);
-        std::fs::write(&p, text).map_err(|e| samekey::Error::io(&p, e))?;
+        std::fs::write(&p, text).map_err(|e| samekey::Error::write(&p, e))?;
     }
     Ok(dir)
 }
