@@ -11,6 +11,8 @@
 //! [`pipeline`] chains the stages; the `samekey` binary is a thin layer of argument
 //! parsing on top of it (see `src/commands/`).
 
+#![deny(missing_docs)]
+
 pub mod block;
 pub mod cluster;
 pub mod compare;

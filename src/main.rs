@@ -13,6 +13,7 @@ fn main() -> ExitCode {
     // Like other Unix tools, end quietly when stdout is closed (e.g. piped into `head`)
     // instead of failing on the next print.
     #[cfg(unix)]
+    #[allow(unsafe_code)]
     // SAFETY: restoring the default SIGPIPE disposition before any thread starts.
     unsafe {
         libc::signal(libc::SIGPIPE, libc::SIG_DFL);

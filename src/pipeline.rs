@@ -226,7 +226,7 @@ fn cluster_and_write(
 fn write_keys(
     table: &RecordTable,
     clusters: &Clusters,
-    guards: &SpecGuards,
+    guards: &SpecGuards<'_>,
     staging: &mut Staging,
 ) -> Result<()> {
     let keys = crate::keys::assign(table, &clusters.label);

@@ -6,6 +6,7 @@ mod common;
 mod contract;
 mod evaluate;
 mod exit_codes;
+mod help;
 mod link;
 mod module_graph;
 mod tricky;

@@ -171,7 +171,7 @@ impl Blocking {
         (crate::util::stable_hash(&bytes) % n.max(1) as u64) as usize
     }
 
-    /// Cut all blocks into tasks of about [`TASK_ROWS`] rows, in a fixed order.
+    /// Cut all blocks into tasks of about `TASK_ROWS` (256) rows, in a fixed order.
     pub fn tasks(&self) -> Vec<Task> {
         let mut tasks = Vec::new();
         for (key, kb) in self.keys.iter().enumerate() {

@@ -804,7 +804,7 @@ mod tests {
     fn scikit_learn_values() {
         /// (truth, predicted, ARI, TP, FP, FN)
         type Case<'a> = (&'a [u32], &'a [u32], f64, u64, u64, u64);
-        let cases: [Case; 4] = [
+        let cases: [Case<'_>; 4] = [
             (
                 &[0, 0, 0, 1, 1, 2, 3, 3, 3, 3, 4, 5, 5, 6, 7, 7, 7, 8, 9, 9],
                 &[0, 0, 1, 1, 1, 2, 3, 3, 4, 4, 5, 6, 6, 6, 7, 7, 8, 8, 9, 10],

@@ -162,7 +162,7 @@ impl ScoreStats {
 /// order, and count them. `progress` counts pairs enumerated.
 pub fn score_all<S: PairSink + Sync>(
     prepared: &Prepared,
-    scorer: &PairScorer,
+    scorer: &PairScorer<'_>,
     sink: &mut S,
     progress: &Progress,
 ) -> Result<ScoreStats> {
@@ -211,7 +211,7 @@ pub fn score_all<S: PairSink + Sync>(
 /// threshold if it was above it.
 pub fn threshold_for_target(
     decider: &Decider,
-    scorer: &Scorer,
+    scorer: &Scorer<'_>,
     counts: &[KeyCounts],
     target: f64,
 ) -> Result<Decider> {

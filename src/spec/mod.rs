@@ -8,8 +8,7 @@
 //! Two steps: serde reads the TOML into the raw form ([`raw`]), structs that name every
 //! key and keep each value as written; the resolve step checks it into the resolved
 //! [`Spec`], whose parts are the types of the stages that use them
-//! ([`SourceSpec`](crate::sources::SourceSpec), [`CompareSpec`](crate::compare::CompareSpec),
-//! [`BlockSpec`](crate::block::BlockSpec)). Every error names the key path
+//! ([`SourceSpec`], [`CompareSpec`], [`BlockSpec`]). Every error names the key path
 //! (`source[2].columns.email`), the bad value and what is allowed; the messages are
 //! pinned by a snapshot test (`tests/snapshots/spec_errors.txt`).
 

@@ -172,7 +172,7 @@ fn parse_inner(raw: &str, order: DateOrder) -> Option<((i32, u8, u8), bool)> {
             false,
         ));
     }
-    let fields: Vec<Field> = s
+    let fields: Vec<Field<'_>> = s
         .split(['-', '/', '.', ',', ' '])
         .filter(|f| !f.is_empty())
         .map(|f| {

@@ -595,7 +595,7 @@ fn decide(code: u16, national: &str) -> Fast {
 /// first), e.g. stored E.164 values, `+1 (202) 555-0143` or `+44 (0)20 7946 0023`: the
 /// country code is the shortest known 1-3 digit prefix, as in the crate, and the rest
 /// is the national number. A written trunk prefix `0` (`(0)`) is dropped where the
-/// crate drops it (see [`drop_written_trunk`]). Unhandled when the crate could strip
+/// crate drops it (see `drop_written_trunk`). Unhandled when the crate could strip
 /// anything else (the trunk-prefix pattern of a region of the code matches the
 /// national number).
 pub fn parse_international_fast(raw: &str) -> Fast {

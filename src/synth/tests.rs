@@ -233,7 +233,7 @@ fn flagged_noise_is_what_it_says() {
             ..NoiseConfig::default()
         },
     });
-    let only = |r: &Record, kinds: &[NoiseKind]| {
+    let only = |r: &Record<'_>, kinds: &[NoiseKind]| {
         let allowed: u32 = kinds.iter().map(|k| k.bit()).sum();
         let name_noise = [
             NoiseKind::TypoGiven,

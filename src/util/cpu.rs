@@ -14,6 +14,7 @@ mod clocks {
             tv_nsec: 0,
         };
         // SAFETY: `ts` is a valid, writable timespec; the call only writes into it.
+        #[allow(unsafe_code)]
         let rc = unsafe { libc::clock_gettime(id, &mut ts) };
         if rc != 0 {
             return None;
