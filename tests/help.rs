@@ -35,7 +35,10 @@ fn commands(top: &str) -> Vec<String> {
 fn help_texts_match_their_snapshots() {
     let top = help_of(&["--help"]);
     let names = commands(&top);
-    assert!(names.len() >= 5 && names.iter().any(|c| c == "link"), "{names:?}");
+    assert!(
+        names.len() >= 5 && names.iter().any(|c| c == "link"),
+        "{names:?}"
+    );
     let mut texts = vec![("samekey".to_string(), top)];
     for c in &names {
         texts.push((format!("samekey-{c}"), help_of(&[c, "--help"])));

@@ -725,7 +725,7 @@ mod tests {
             ],
             &["martha", "martha", "marhta", "m", "marta", "xavier"],
         );
-        // JW(martha, marhta) = 0.961 (Winkler 1990, via CHECK_VALUES.md); marta ~ 0.95.
+        // JW(martha, marhta) = 0.961 (Winkler 1990, via docs/check-values.md); marta ~ 0.95.
         assert_eq!(
             got,
             [
@@ -1005,7 +1005,7 @@ mod tests {
                 })
                 .collect::<Vec<_>>()
         };
-        // Valid: CHECK_VALUES.md §5, "06 12 34 56 78" FR -> +33612345678 (valid).
+        // Valid: docs/check-values.md §5, "06 12 34 56 78" FR -> +33612345678 (valid).
         assert_eq!(
             phone_levels(&[
                 "+33612345678",

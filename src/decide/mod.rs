@@ -206,7 +206,7 @@ const WEIGHT_RANGE: f64 = 128.0;
 /// Candidate pairs by match weight, with the sum of their match probabilities: enough
 /// to estimate precision and recall at any threshold without labels.
 ///
-/// The model's own estimate (after Belin & Rubin 1995, METHODS.md §4): among pairs at or
+/// The model's own estimate (after Belin & Rubin 1995, docs/methods.md §4): among pairs at or
 /// above a threshold, the expected share of true matches is the mean match probability,
 /// and the expected matches found are the sum of those probabilities out of the sum over
 /// all candidate pairs. Matches that blocking never proposed are outside this estimate.

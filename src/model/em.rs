@@ -353,7 +353,7 @@ impl Params {
 /// m puts 0.9 on level 0 (the strongest agreement) and shares the rest over the
 /// other levels, decreasing with the level; u is the mirror image, favouring the
 /// last level (disagree). An attribute with one level gets probability 1.
-/// (Winkler-style start: METHODS §2, "m0 ≈ 0.9 on the top level, then decreasing".)
+/// (Winkler-style start: docs/methods.md §2, "m0 ≈ 0.9 on the top level, then decreasing".)
 pub fn default_init(n_levels: &[usize], lambda0: f64) -> Params {
     let m: Vec<Vec<f64>> = n_levels
         .iter()
@@ -388,7 +388,7 @@ pub fn default_init(n_levels: &[usize], lambda0: f64) -> Params {
 
 /// Observed level frequencies per attribute (missing values left out); uniform for
 /// an attribute never observed. Since non-matches dominate candidate pairs, this is
-/// a common starting value for u (METHODS §2).
+/// a common starting value for u (docs/methods.md §2).
 pub fn level_frequencies(data: &PatternCounts) -> Vec<Vec<f64>> {
     let mut freq: Vec<Vec<f64>> = data.n_levels().iter().map(|&l| vec![0.0; l]).collect();
     for (codes, count) in data.iter() {
@@ -456,7 +456,7 @@ pub fn evidence_bits(params: &Params, codes: &[u8]) -> f64 {
 }
 
 /// Match probability P(M | γ) = λ m(γ) / (λ m(γ) + (1 − λ) u(γ)), computed from the
-/// match weight: log2-odds = W + log2(λ / (1 − λ)) (METHODS §4).
+/// match weight: log2-odds = W + log2(λ / (1 − λ)) (docs/methods.md §4).
 pub fn posterior(params: &Params, codes: &[u8]) -> f64 {
     let log2_odds = evidence_bits(params, codes) + (params.lambda / (1.0 - params.lambda)).log2();
     logistic(log2_odds * std::f64::consts::LN_2)
@@ -581,12 +581,12 @@ pub struct EmOptions {
     /// Iteration cap (default 1000).
     pub max_iterations: usize,
     /// Stop when the objective changes by less than this times its magnitude
-    /// (default 1e-10; METHODS §2).
+    /// (default 1e-10; docs/methods.md §2).
     pub rel_tol_loglik: f64,
-    /// Stop when no parameter moves by more than this (default 1e-8; METHODS §2).
+    /// Stop when no parameter moves by more than this (default 1e-8; docs/methods.md §2).
     pub param_tol: f64,
     /// Smallest allowed probability, for λ, 1 − λ and every m and u entry, so an
-    /// empty level never reaches ln 0 (default 1e-9; METHODS §2). Must be > 0 and
+    /// empty level never reaches ln 0 (default 1e-9; docs/methods.md §2). Must be > 0 and
     /// below 1 / (largest number of levels).
     pub floor: f64,
     /// Keep u as given (e.g. estimated from random pairs); estimate λ and m only.
@@ -1209,7 +1209,7 @@ mod tests {
     }
 
     /// Synthetic comparison vectors with known parameters (the generator idea of
-    /// `em_reference.py`, on our own RNG): each pair is a match with probability
+    /// `tests/reference/em_reference.py`, on our own RNG): each pair is a match with probability
     /// λ, then every attribute is missing with probability `missing[k]`, otherwise
     /// drawn from m or u. Returns the counts and the number of true matches.
     fn generate(truth: &Params, missing: &[f64], n: usize, seed: u64) -> (PatternCounts, u64) {
@@ -1276,7 +1276,7 @@ mod tests {
     }
 
     /// The committed reference patterns (`tests/data/em_reference_patterns.csv`,
-    /// written by `shared/em_reference.py`). That file codes 0 = disagree and
+    /// written by `tests/reference/em_reference.py`). That file codes 0 = disagree and
     /// 2 = agree; samekey codes 0 = strongest agreement, so levels are mirrored.
     fn reference_patterns() -> PatternCounts {
         let path = concat!(
@@ -1300,7 +1300,7 @@ mod tests {
             .collect()
     }
 
-    /// numpy-EM estimates from CHECK_VALUES §8 (source: `em_reference.py`, numpy
+    /// numpy-EM estimates from docs/check-values.md §8 (source: `tests/reference/em_reference.py`, numpy
     /// 2.4.6, seed 20240601; stepmix 3.0.0 agrees to ≤ 7e-7). Printed with 6
     /// decimals, so they carry up to 5e-7 rounding.
     fn reference_fit() -> Params {
@@ -1438,7 +1438,7 @@ mod tests {
 
     #[test]
     fn weights_and_posterior_follow_the_formulas() {
-        // Binary-field weights (Fellegi & Sunter 1969; METHODS §1): agree
+        // Binary-field weights (Fellegi & Sunter 1969; docs/methods.md §1): agree
         // log2(m/u), disagree log2((1−m)/(1−u)); missing adds 0.
         let p = Params {
             lambda: 0.2,
@@ -1501,8 +1501,8 @@ mod tests {
 
     // -- fitting: external reference ---------------------------------------
 
-    /// CHECK_VALUES §8: EM on the committed reference patterns reproduces the
-    /// numpy-EM / stepmix 3.0.0 estimates (tolerance 1e-5, as CHECK_VALUES
+    /// docs/check-values.md §8: EM on the committed reference patterns reproduces the
+    /// numpy-EM / stepmix 3.0.0 estimates (tolerance 1e-5, as docs/check-values.md
     /// advises; the published values are rounded to 6 decimals).
     #[test]
     fn reference_patterns_reproduce_check_values() {
@@ -1520,7 +1520,7 @@ mod tests {
         assert!(!fit.swapped);
         assert_params_close(&fit.params, &reference_fit(), 1e-7, 1e-5, 1e-5);
         rows_sum_to_one(&fit.params);
-        // Log-likelihood at the optimum and at the true parameters (CHECK_VALUES §8).
+        // Log-likelihood at the optimum and at the true parameters (docs/check-values.md §8).
         assert_close("ℓ at optimum", fit.loglik, -130131.6464, 1e-3);
         let truth = Params {
             lambda: 0.04,
@@ -1547,7 +1547,7 @@ mod tests {
         );
         assert!(fit.loglik >= loglik(&data, &truth, None));
 
-        // Partial weights log2(m/u) (CHECK_VALUES §8, reference order
+        // Partial weights log2(m/u) (docs/check-values.md §8, reference order
         // disagree / partial / agree, 4 decimals).
         let published = [
             [-4.4328, 0.0789, 4.0260],
@@ -1563,7 +1563,7 @@ mod tests {
             }
         }
 
-        // Composite weights and posteriors (CHECK_VALUES §8; patterns in the
+        // Composite weights and posteriors (docs/check-values.md §8; patterns in the
         // reference's coding, mirrored here).
         let rows: [([u8; 5], f64, f64); 6] = [
             ([2, 2, 2, 2, 2], 24.6361, 0.999999),
@@ -1580,7 +1580,7 @@ mod tests {
         }
     }
 
-    /// CHECK_VALUES §8: a start from swapped classes reaches the label-switched
+    /// docs/check-values.md §8: a start from swapped classes reaches the label-switched
     /// maximum, which `orient` turns back.
     #[test]
     fn swapped_start_is_relabelled() {
@@ -1865,7 +1865,7 @@ mod tests {
 
     fn assert_monotone(trace: &[f64]) -> std::result::Result<(), TestCaseError> {
         for w in trace.windows(2) {
-            // 1e-12 relative slack for rounding (METHODS §2).
+            // 1e-12 relative slack for rounding (docs/methods.md §2).
             let slack = 1e-12 * w[0].abs().max(1.0);
             prop_assert!(w[1] >= w[0] - slack, "objective fell: {} -> {}", w[0], w[1]);
         }

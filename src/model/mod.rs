@@ -9,7 +9,7 @@
 //!    always agrees on that key's pairs, so it is left out of that key's fit (its m
 //!    there would be biased towards 1). Each attribute's m is the average of its
 //!    per-key estimates weighted by the expected number of matches of the key
-//!    (λ_b × pairs_b); this follows the blocking-bias treatment of METHODS.md §6.
+//!    (λ_b × pairs_b); this follows the blocking-bias treatment of docs/methods.md §2.
 //!    An attribute used by every key falls back to a fit on all candidate pairs.
 //! 3. **λ over all record pairs** = expected matches Σ λ_b pairs_b / (n(n−1)/2), the
 //!    prior that goes with u from random pairs.
@@ -325,7 +325,7 @@ struct KeyModel {
 /// `log2(m_exact / p_v)` instead of the average `log2(m_exact / u_exact)`: the adjustment
 /// is `log2(u_exact / p_v)` (u from random pairs), clamped to ±[`FREQ_MAX_ADJUST`] bits so
 /// that a value seen once or a dominant value cannot decide a pair alone (Winkler 1989;
-/// METHODS.md §3).
+/// docs/methods.md §3).
 #[derive(Debug, Clone)]
 pub struct Scorer<'a> {
     weights: Vec<Vec<f64>>,

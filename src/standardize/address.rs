@@ -28,7 +28,7 @@
 use super::text::{clean_text, clean_text_keep};
 use super::Cleaned;
 
-/// USPS Publication 28 App. C1 street suffixes (METHODS.md §9) and common variants.
+/// USPS Publication 28 App. C1 street suffixes (docs/methods.md §9) and common variants.
 const EN_SUFFIXES: &[(&str, &str)] = &[
     ("alley", "aly"),
     ("avenue", "ave"),
@@ -68,7 +68,7 @@ const EN_SUFFIXES: &[(&str, &str)] = &[
     ("turnpike", "tpke"),
 ];
 
-/// USPS Publication 28 directionals (METHODS.md §9).
+/// USPS Publication 28 directionals (docs/methods.md §9).
 const DIRECTIONALS: &[(&str, &str)] = &[
     ("north", "n"),
     ("south", "s"),
@@ -80,7 +80,7 @@ const DIRECTIONALS: &[(&str, &str)] = &[
     ("southwest", "sw"),
 ];
 
-/// USPS Publication 28 App. C2 secondary unit designators (METHODS.md §9), plus a few
+/// USPS Publication 28 App. C2 secondary unit designators (docs/methods.md §9), plus a few
 /// German/French/Spanish words (common practice, no source).
 const UNITS: &[(&str, &str)] = &[
     ("apartment", "apt"),
@@ -658,7 +658,7 @@ mod tests {
 
     #[test]
     fn usps_suffixes_and_house_numbers() {
-        // USPS Publication 28 App. C1 (METHODS.md §9): STREET->ST, AVENUE->AVE,
+        // USPS Publication 28 App. C1 (docs/methods.md §9): STREET->ST, AVENUE->AVE,
         // ROAD->RD, BOULEVARD->BLVD, PARKWAY->PKWY; directionals NORTH->N.
         check("12 Main Street", Some("US"), "main st", "12", "");
         check(
@@ -689,7 +689,7 @@ mod tests {
 
     #[test]
     fn usps_units() {
-        // USPS Publication 28 App. C2 (METHODS.md §9): APARTMENT->APT, SUITE->STE,
+        // USPS Publication 28 App. C2 (docs/methods.md §9): APARTMENT->APT, SUITE->STE,
         // FLOOR->FL; '#' when the designator is unknown.
         check("123 Main St Apt 4B", Some("US"), "main st", "123", "apt 4b");
         check(
@@ -720,7 +720,7 @@ mod tests {
 
     #[test]
     fn german_and_french_streets() {
-        // German: Straße/Strasse/Str. one token, compounds split (METHODS.md §9).
+        // German: Straße/Strasse/Str. one token, compounds split (docs/methods.md §9).
         check("Hauptstraße 12a", Some("DE"), "hauptstr", "12a", "");
         check("Hauptstrasse 12 a", Some("DE"), "hauptstr", "12a", "");
         check("Hauptstr. 12", Some("DE"), "hauptstr", "12", "");

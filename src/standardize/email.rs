@@ -13,7 +13,7 @@
 //!   domain literals (`[192.168.1.1]`).
 //!
 //! The whole address is lower-cased although RFC 5321 §2.4 lets the local part be
-//! case-sensitive (METHODS.md §9: matching key is lower-case). Sub-addressing (RFC 5233
+//! case-sensitive (docs/methods.md §9: matching key is lower-case). Sub-addressing (RFC 5233
 //! `user+tag`) is removed: `user+news@example.com` → `user@example.com`. That equates
 //! addresses that only differ in the tag, which is what a matching key should do.
 
@@ -177,7 +177,7 @@ mod tests {
 
     #[test]
     fn email_validator_check_values() {
-        // CHECK_VALUES.md §7 (email-validator 2.4.0): valid rows, then lower-cased
+        // docs/check-values.md §7 (email-validator 2.4.0): valid rows, then lower-cased
         // (our matching key) and +tag removed.
         assert_eq!(
             key("John.Doe@Example.COM").as_deref(),
@@ -231,7 +231,7 @@ mod tests {
 
     #[test]
     fn local_part_length_limit() {
-        // RFC 5321 §4.5.3.1.1: local part at most 64 octets (CHECK_VALUES.md §7 caveat:
+        // RFC 5321 §4.5.3.1.1: local part at most 64 octets (docs/check-values.md §7:
         // the 65-character local part fails email-validator's strict mode).
         let ok = format!("{}@example.com", "a".repeat(64));
         let long = format!("{}@example.com", "a".repeat(65));

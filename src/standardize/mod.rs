@@ -435,9 +435,9 @@ mod tests {
         assert_eq!(out.get(Attr::FamilyName), Some("smith"));
         assert_eq!(out.get(Attr::FullName), Some("smith, john q"));
         assert_eq!(out.get(Attr::Email), Some("john.smith@example.com"));
-        // CHECK_VALUES.md §5: "(650) 253-0000 ext. 123", US -> +16502530000.
+        // docs/check-values.md §5: "(650) 253-0000 ext. 123", US -> +16502530000.
         assert_eq!(out.get(Attr::Phone), Some("+16502530000"));
-        // CHECK_VALUES.md §5 type column: FIXED_LINE_OR_MOBILE.
+        // docs/check-values.md §5, number type: FIXED_LINE_OR_MOBILE.
         assert_eq!(out.get(Attr::PhoneType), Some("fixed_line_or_mobile"));
         assert_eq!(out.get(Attr::Street), Some("n main st"));
         assert_eq!(out.get(Attr::HouseNumber), Some("123"));
@@ -475,9 +475,9 @@ mod tests {
         let c = conv("US", DateOrder::Dmy, NameOrder::GivenFirst);
         let out = standardize(&raw, &c, &mut stats);
         assert_eq!(out.get(Attr::Country), Some("DE"));
-        // CHECK_VALUES.md §5: "030 12345678", DE -> +493012345678.
+        // docs/check-values.md §5: "030 12345678", DE -> +493012345678.
         assert_eq!(out.get(Attr::Phone), Some("+493012345678"));
-        // CHECK_VALUES.md §5 type column: FIXED_LINE.
+        // docs/check-values.md §5, number type: FIXED_LINE.
         assert_eq!(out.get(Attr::PhoneType), Some("fixed_line"));
         assert_eq!(out.get(Attr::Postcode), Some("01067"));
         assert_eq!(out.get(Attr::Street), Some("hauptstr"));
@@ -516,7 +516,7 @@ mod tests {
     #[test]
     fn phone_type_from_the_number_unless_given() {
         let c = conv("DE", DateOrder::Dmy, NameOrder::GivenFirst);
-        // CHECK_VALUES.md §5: "0151 23456789", DE -> MOBILE.
+        // docs/check-values.md §5: "0151 23456789", DE -> MOBILE.
         let mut stats = StdStats::default();
         let out = standardize(&record(&[(Attr::Phone, "0151 23456789")]), &c, &mut stats);
         assert_eq!(out.get(Attr::PhoneType), Some("mobile"));
@@ -542,7 +542,7 @@ mod tests {
         assert_eq!(out.get(Attr::PhoneType), Some("fixed_line"));
         assert_eq!(stats.attrs[Attr::PhoneType.index()].invalid, 1);
 
-        // No valid number, no type. CHECK_VALUES.md §5: "07700 900123", GB is invalid.
+        // No valid number, no type. docs/check-values.md §5: "07700 900123", GB is invalid.
         for (phone, country) in [("07700 900123", "GB"), ("n/a", "GB"), ("12", "DE")] {
             let out = standardize(
                 &record(&[(Attr::Phone, phone)]),

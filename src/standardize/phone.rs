@@ -3,7 +3,7 @@
 //! In: a raw number and the default region (ISO 3166 alpha-2: the record's own country
 //! when it has one, else the source's). Out: the E.164 string (`+` country code and
 //! national significant number, at most 15 digits, ITU-T E.164) for valid numbers only;
-//! anything else is invalid (CHECK_VALUES.md §5, note 2). Extensions (`ext. 123`,
+//! anything else is invalid (docs/check-values.md §5). Extensions (`ext. 123`,
 //! `x123`) are dropped from the value. [`normalize_phone_typed`] also gives the
 //! [`PhoneType`] of a valid number (`mobile`, `fixed_line`, `fixed_line_or_mobile`,
 //! `toll_free`, ...) from the metadata's number-type patterns, following
@@ -853,7 +853,7 @@ mod tests {
 
     #[test]
     fn check_values_valid_numbers() {
-        // CHECK_VALUES.md §5: phonenumbers 9.0.43 and Rust phonenumber 0.3.10+9.0.33
+        // docs/check-values.md §5: phonenumbers 9.0.43 and Rust phonenumber 0.3.10+9.0.33
         // agree on these valid rows (E.164 column, valid = True).
         let rows = [
             ("(650) 253-0000", Some("US"), "+16502530000"),
@@ -883,7 +883,7 @@ mod tests {
 
     #[test]
     fn check_values_invalid_numbers_become_missing() {
-        // CHECK_VALUES.md §5: rows with valid = False or a parse error.
+        // docs/check-values.md §5: rows with valid = False or a parse error.
         let rows = [
             ("555-1234", Some("US")),
             ("(123) 456-7890", Some("US")),
@@ -911,7 +911,7 @@ mod tests {
 
     #[test]
     fn check_values_phone_types() {
-        // CHECK_VALUES.md §5, "type" column (phonenumbers 9.0.43 `number_type`).
+        // docs/check-values.md §5, "type" column (phonenumbers 9.0.43 `number_type`).
         use PhoneType::*;
         let rows = [
             ("(650) 253-0000", Some("US"), FixedLineOrMobile),

@@ -328,7 +328,7 @@ mod tests {
 
     #[test]
     fn fold_ascii_matches_reference_transliterators() {
-        // CHECK_VALUES.md §6: unidecode 1.4.0 / deunicode 1.6.2 / any_ascii 0.3.3
+        // docs/check-values.md §6: unidecode 1.4.0 / deunicode 1.6.2 / any_ascii 0.3.3
         // columns, lower-cased (they agree on these rows).
         let rows = [
             ("M\u{fc}ller", "muller"),
@@ -353,7 +353,7 @@ mod tests {
         for (input, want) in rows {
             assert_eq!(fold_ascii(input), want, "{input:?}");
         }
-        // CHECK_VALUES.md §6: unidecode/deunicode give "Lukasz Oster AEbelo" and
+        // docs/check-values.md §6: unidecode/deunicode give "Lukasz Oster AEbelo" and
         // "AEroskobing"; lower-cased.
         assert_eq!(
             fold_ascii("\u{141}ukasz \u{d8}ster \u{c6}bel\u{f8}"),
@@ -366,13 +366,13 @@ mod tests {
 
     #[test]
     fn casefold_follows_case_folding_for_sharp_s() {
-        // CHECK_VALUES.md §6: Python casefold('Straße') = 'strasse', casefold('ẞ') = 'ss',
+        // docs/check-values.md §6: Python casefold('Straße') = 'strasse', casefold('ẞ') = 'ss',
         // NFKC('ﬁsch') = 'fisch', NFKC of full-width Ｍ = M.
         assert_eq!(casefold("Stra\u{df}e"), "strasse");
         assert_eq!(casefold("\u{1e9e}"), "ss");
         assert_eq!(casefold("\u{fb01}sch"), "fisch");
         assert_eq!(casefold("\u{ff2d}\u{fc}ller"), "m\u{fc}ller");
-        // Decomposed input comes out composed (NFC length 6, CHECK_VALUES.md §6).
+        // Decomposed input comes out composed (NFC length 6, docs/check-values.md §6).
         assert_eq!(casefold("Mu\u{308}ller").chars().count(), 6);
         // Turkish policy (our choice): İ -> i without the combining dot.
         assert_eq!(casefold("\u{130}stanbul"), "istanbul");
@@ -394,7 +394,7 @@ mod tests {
 
     #[test]
     fn din_5007_2_transliteration() {
-        // DIN 5007-2 / ICAO Doc 9303 Part 3 (METHODS.md §9; CHECK_VALUES.md §6):
+        // DIN 5007-2 / ICAO Doc 9303 Part 3 (docs/methods.md §9; docs/check-values.md §6):
         // Müller -> MUELLER, Straße -> STRASSE, Gößmann -> GOESSMANN; Doc 9303 å -> aa,
         // æ -> ae, þ -> th.
         assert_eq!(translit_din("Müller"), "mueller");
@@ -407,7 +407,7 @@ mod tests {
 
     #[test]
     fn umlaut_forms_share_a_key() {
-        // METHODS.md §9: build both the MULLER and MUELLER keys.
+        // docs/methods.md §9: build both the MULLER and MUELLER keys.
         for (a, b) in [
             ("müller", "mueller"),
             ("müller", "muller"),

@@ -364,7 +364,7 @@ mod tests {
 
     #[test]
     fn transliteration_examples() {
-        // DIN 5007-2 / ICAO 9303 German convention (see CHECK_VALUES.md §6).
+        // DIN 5007-2 / ICAO 9303 German convention (see docs/check-values.md §6).
         assert_eq!(transliterate_german("Müller"), "Mueller");
         assert_eq!(transliterate_german("Straße"), "Strasse");
         assert_eq!(transliterate_german("Gößmann"), "Goessmann");

@@ -8,12 +8,12 @@ Out: a table of both fits and their differences; exit status 0 when they agree,
 samekey's fit comes from `cargo run --example em_fit` (JSON on stdout). stepmix
 (PyPI `stepmix`, two-class categorical measurement model, the same model: latent
 classes with conditionally independent categorical indicators) is fitted on the
-patterns expanded to one row per pair, with the settings of shared/em_reference.py.
+patterns expanded to one row per pair, with the settings of tests/reference/em_reference.py.
 
 Tolerance: 1e-5 absolute on lambda and on every m and u probability, 1e-3 on the
 total log-likelihood (natural log, sum over pairs). Both programs stop on tiny
 changes but not at the exact maximum; the two fits agree far better than this
-(see CHECK_VALUES section 8: numpy EM vs stepmix <= 7e-7).
+(see docs/check-values.md §8: numpy EM vs stepmix <= 7e-7).
 
 Usage (from the repository root):
   pip install stepmix numpy
@@ -29,7 +29,7 @@ import sys
 
 TOL_PROB = 1e-5
 TOL_LOGLIK = 1e-3
-SEED = 20240601  # as in shared/em_reference.py
+SEED = 20240601  # as in tests/reference/em_reference.py
 
 
 def main(argv: list[str]) -> int:

@@ -6,7 +6,7 @@
 //! * Levenshtein (1966): insertions, deletions and substitutions, each costing 1.
 //! * OSA ("restricted Damerau–Levenshtein"): also swaps two adjacent characters for 1, but
 //!   never edits a substring twice, so `osa_distance("CA", "ABC") = 3` where the true
-//!   Damerau–Levenshtein distance is 2 (METHODS.md §5). OSA is not a metric.
+//!   Damerau–Levenshtein distance is 2 (docs/methods.md §5). OSA is not a metric.
 //!
 //! Results equal `strsim::levenshtein` and `strsim::osa_distance`.
 //!
@@ -333,10 +333,10 @@ mod tests {
     use super::*;
     use proptest::prelude::*;
 
-    /// CHECK_VALUES §4: (a, b, Levenshtein, OSA), computed by rapidfuzz 3.14.6 and
+    /// docs/check-values.md §4: (a, b, Levenshtein, OSA), computed by rapidfuzz 3.14.6 and
     /// jellyfish 1.3.0 (Levenshtein column), equal in strsim 0.11.1 and rapidfuzz-rs 0.5.0.
     /// kitten/sitting = 3 is also the textbook example (common practice, no source);
-    /// CA/ABC = 3 (OSA) is the textbook OSA case of METHODS.md §5.
+    /// CA/ABC = 3 (OSA) is the textbook OSA case of docs/methods.md §5.
     const ROWS: &[(&str, &str, usize, usize)] = &[
         ("kitten", "sitting", 3, 3),
         ("flaw", "lawn", 2, 2),
@@ -358,7 +358,7 @@ mod tests {
     #[test]
     fn reference_values() {
         for &(a, b, lev, osa) in ROWS {
-            // rapidfuzz 3.14.6 / jellyfish 1.3.0 (CHECK_VALUES §4)
+            // rapidfuzz 3.14.6 / jellyfish 1.3.0 (docs/check-values.md §4)
             assert_eq!(levenshtein(a, b), lev, "levenshtein({a:?}, {b:?})");
             assert_eq!(levenshtein(b, a), lev, "levenshtein({b:?}, {a:?})");
             assert_eq!(osa_distance(a, b), osa, "osa_distance({a:?}, {b:?})");

@@ -3,7 +3,7 @@
 //! In: two strings, compared as sequences of Unicode scalar values (`char`s).
 //! Out: a similarity in `[0, 1]`, 1 for equal strings.
 //!
-//! Definition (Jaro 1989; Winkler 1990; METHODS.md §5):
+//! Definition (Jaro 1989; Winkler 1990; docs/methods.md §5):
 //! * match window `d = floor(max(|a|, |b|) / 2) − 1` (0 when that is negative);
 //! * each character of `a`, left to right, matches the first not yet matched equal
 //!   character of `b` at distance at most `d`; `m` is the number of matches;
@@ -14,7 +14,7 @@
 //!   4, applied only when `J > 0.7`.
 //!
 //! This is exactly what strsim 0.11, jellyfish 1.x and rapidfuzz 3.x compute by default
-//! (CHECK_VALUES §1), and the results here are bit-for-bit those of `strsim::jaro` and
+//! (docs/check-values.md §1), and the results here are bit-for-bit those of `strsim::jaro` and
 //! `strsim::jaro_winkler`: the same greedy matching, the same floating-point expression.
 //! Winkler's Census `strcmp95` extras (credit for "similar" characters, the long-string
 //! adjustment) are not applied, which is why some values printed in Winkler's tables are
@@ -617,7 +617,7 @@ mod tests {
     use proptest::prelude::*;
 
     /// Jaro and Jaro–Winkler as computed by jellyfish 1.3.0 and rapidfuzz 3.14.6 (identical
-    /// to 6 decimals on every row), transcribed from CHECK_VALUES §1. The last column names
+    /// to 6 decimals on every row), transcribed from docs/check-values.md §1. The last column names
     /// the published source of the pair itself: hand = classic worked example re-derived
     /// from the definition; W94 = Winkler 1994, RR94/05, Table 2.1; W93 = Winkler 1993,
     /// RR93/08, Table 5 (both as transcribed in NLTK 3.10.4); edge = edge case, computed only.
@@ -671,7 +671,7 @@ mod tests {
     ];
 
     /// Values printed in the publications (3 decimals) that the plain formula reproduces,
-    /// i.e. the rows CHECK_VALUES §1 marks "ok" for that column.
+    /// i.e. the rows where the published value and the formula agree (docs/check-values.md §1).
     /// (s1, s2, published Jaro, published JW or NaN when that column is not reproducible, source)
     const PUBLISHED_ROWS: &[(&str, &str, f64, f64, &str)] = &[
         ("MARTHA", "MARHTA", 0.944, 0.961, "hand"),
@@ -713,7 +713,7 @@ mod tests {
         ("billy", "susan", 0.000, 0.000, "W93"),
     ];
 
-    /// Published values the formula does not give (CHECK_VALUES §1 flags them). Winkler's
+    /// Published values the formula does not give (docs/check-values.md §1 lists them). Winkler's
     /// Census comparator added the strcmp95 extras, and JON/JAN, 1ST/IST are printed as 0
     /// though the definition gives 0.778. We pin the formula value and that it differs.
     /// (s1, s2, published value, which column, source)
@@ -799,7 +799,7 @@ mod tests {
 
     #[test]
     fn unicode_normalisation_matters() {
-        // rapidfuzz 3.14.6 (CHECK_VALUES §1 note): JW('Müller' NFC, 'Müller' NFD) = 0.864286.
+        // rapidfuzz 3.14.6 (docs/check-values.md §1): JW('Müller' NFC, 'Müller' NFD) = 0.864286.
         let nfc = "M\u{fc}ller";
         let nfd = "Mu\u{308}ller";
         assert!((jaro_winkler(nfc, nfd) - 0.864286).abs() < 5e-7);
@@ -809,7 +809,7 @@ mod tests {
 
     #[test]
     fn winkler_constants() {
-        // Winkler 1990 / METHODS.md §5: p = 0.1, prefix ≤ 4, boost only above 0.7.
+        // Winkler 1990 / docs/methods.md §5: p = 0.1, prefix ≤ 4, boost only above 0.7.
         assert_eq!(WINKLER_PREFIX_SCALE, 0.1);
         assert_eq!(WINKLER_MAX_PREFIX, 4);
         assert_eq!(WINKLER_BOOST_THRESHOLD, 0.7);
@@ -885,7 +885,7 @@ mod tests {
                 );
             }
         }
-        // Published pair, CHECK_VALUES §1 (jellyfish 1.3.0 / rapidfuzz 3.14.6): 0.961111.
+        // Published pair, docs/check-values.md §1 (jellyfish 1.3.0 / rapidfuzz 3.14.6): 0.961111.
         let mut one = [0.0];
         JaroMatcher::new("MARTHA").jaro_winkler_many(&["MARHTA"], &mut one);
         assert!((one[0] - 0.961111).abs() < 5e-7);

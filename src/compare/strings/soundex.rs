@@ -4,7 +4,7 @@
 //! "Müller" into "MUELLER"/"MULLER" first). Out: the letter + 3 digits code, e.g. `R163`,
 //! or an empty string when the input has no ASCII letter.
 //!
-//! Rules (US National Archives, "The Soundex Indexing System", 2007; METHODS.md §5):
+//! Rules (US National Archives, "The Soundex Indexing System", 2007; docs/methods.md §5):
 //! keep the first letter; code B F P V → 1, C G J K Q S X Z → 2, D T → 3, L → 4,
 //! M N → 5, R → 6; A E I O U Y are not coded but separate equal codes (Tymczak → T522);
 //! H and W are not coded and do not separate (Ashcraft → A261); letters with the same code
@@ -20,7 +20,7 @@
 //! input (checked by a property test). It differs on non-ASCII input: rphonetic keeps every
 //! Unicode letter, so it codes "ſmith" (long s, upper-cased to S) as S530 where we skip the
 //! ſ and give M300, and it panics on letters whose upper case is not ASCII, such as "Müller"
-//! (CHECK_VALUES §2). Here non-ASCII input never panics.
+//! (docs/check-values.md §2). Here non-ASCII input never panics.
 
 /// Soundex digit per letter A..Z: b'0' = vowel or Y (separates), b'-' = H or W (transparent).
 const CODES: &[u8; 26] = b"0123012-02245501262301-202";
@@ -93,7 +93,7 @@ mod tests {
     use proptest::prelude::*;
     use rphonetic::Encoder;
 
-    /// Every published code of CHECK_VALUES §2 with its source: NARA = "The Soundex Indexing
+    /// Every published code of docs/check-values.md §2 with its source: NARA = "The Soundex Indexing
     /// System" (archives.gov, 2007); NARA-old = older NARA leaflet as reproduced by genealogy
     /// sites; Knuth = TAOCP Vol. 3 §6; FS-wiki = FamilySearch Research Wiki "Soundex";
     /// common = commonly quoted examples (e.g. Wikipedia "Soundex"). jellyfish 1.3.0 and
@@ -146,13 +146,13 @@ mod tests {
 
     #[test]
     fn computed_codes() {
-        // Computed by jellyfish 1.3.0 and rphonetic 4.0.0 (CHECK_VALUES §2, extra rows).
+        // Computed by jellyfish 1.3.0 and rphonetic 4.0.0 (docs/check-values.md §2).
         assert_eq!(soundex("O'Brien"), "O165");
         assert_eq!(soundex("van der Berg"), "V536");
         assert_eq!(soundex("X"), "X000");
         // jellyfish 1.3.0 returns "" for "".
         assert_eq!(soundex(""), "");
-        // jellyfish 1.3.0 gives M460 for "Müller" (CHECK_VALUES §2); skipping ü gives the same.
+        // jellyfish 1.3.0 gives M460 for "Müller" (docs/check-values.md §2); skipping ü gives the same.
         assert_eq!(soundex("Müller"), "M460");
     }
 
