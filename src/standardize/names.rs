@@ -486,7 +486,7 @@ impl Reading {
 ///    ([`NameFrequencies::given_log_odds`], learned from the run's sources with
 ///    separate name columns, and the nickname table). A particle ends no part.
 ///    The best reading is taken when it beats the given-first reading (the default) by
-///    [`MIXED_MARGIN`]; otherwise the default stays, and the comparison's `swapped`
+///    `MIXED_MARGIN`; otherwise the default stays, and the comparison's `swapped`
 ///    level and any-order blocking keys cover the other reading.
 ///
 /// A single word is a given name when the frequencies say so (log odds > margin), else
