@@ -245,13 +245,17 @@ pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path, progress: bool) -> Res
             purpose: "merging",
         },
     )?;
+    let spin = Progress::spinner(progress, "read shard pairs");
     let mut edges = Vec::new();
     for dir in shards {
         edges.extend(read_match_edges(&dir.join("pairs.csv"), &p.table)?);
     }
+    spin.finish();
+    let spin = Progress::spinner(progress, "cluster + keys");
     let mut staging = Staging::new(out)?;
     let clusters = cluster_and_write(spec, &p, &edges, &mut staging)?;
     let outputs = staging.commit()?;
+    spin.finish();
     Ok(MergeSummary {
         shards: shards.len(),
         records: p.table.len(),

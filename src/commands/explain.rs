@@ -19,7 +19,8 @@ pub struct Args {
     #[arg(long)]
     pub model: PathBuf,
     /// Crosswalk for the records' customer keys [default: crosswalk.csv next to the
-    /// model file, when there is one].
+    /// model file, when there is one]; refused.csv beside it tells whether that run's
+    /// guards refused the pair.
     #[arg(long)]
     pub crosswalk: Option<PathBuf>,
     /// Print the explanation as JSON.
@@ -77,12 +78,63 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         (&args.b.0, &args.b.1),
         crosswalk.as_ref(),
     )?;
+    // The run that wrote the crosswalk also wrote refused.csv beside it: did its guards
+    // refuse this very pair?
+    let refused_in_run = match crosswalk_path.as_ref().and_then(|p| p.parent()) {
+        Some(dir) if dir.join("refused.csv").exists() => refused_reason(
+            &dir.join("refused.csv"),
+            (&args.a.0, &args.a.1),
+            (&args.b.0, &args.b.1),
+        )?,
+        _ => None,
+    };
+    if global.quiet {
+        return Ok(());
+    }
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&to_json(&e))?);
-    } else if !global.quiet {
+        let mut v = to_json(&e);
+        v["refused_in_run"] = serde_json::json!(refused_in_run);
+        println!("{}", serde_json::to_string_pretty(&v)?);
+    } else {
         print!("{}", render(&e, crosswalk_path.is_some()));
+        if let Some(why) = refused_in_run {
+            println!("the run that wrote the crosswalk refused to merge this pair: {why}");
+        }
     }
     Ok(())
+}
+
+/// The reason `refused.csv` gives for the pair of records `a` and `b` (either order).
+fn refused_reason(
+    path: &std::path::Path,
+    a: (&str, &str),
+    b: (&str, &str),
+) -> samekey::Result<Option<String>> {
+    let err = |e| samekey::Error::Csv {
+        path: path.to_path_buf(),
+        source: e,
+    };
+    let mut rdr = csv::Reader::from_path(path).map_err(err)?;
+    let headers = rdr.headers().map_err(err)?.clone();
+    let col = |name: &str| headers.iter().position(|h| h == name);
+    let (Some(sa), Some(ia), Some(sb), Some(ib), Some(r)) = (
+        col("source_a"),
+        col("id_a"),
+        col("source_b"),
+        col("id_b"),
+        col("reason"),
+    ) else {
+        return Ok(None);
+    };
+    for row in rdr.records() {
+        let row = row.map_err(err)?;
+        let x = (row.get(sa).unwrap_or(""), row.get(ia).unwrap_or(""));
+        let y = (row.get(sb).unwrap_or(""), row.get(ib).unwrap_or(""));
+        if (x == a && y == b) || (x == b && y == a) {
+            return Ok(row.get(r).map(String::from));
+        }
+    }
+    Ok(None)
 }
 
 /// Widest a value column may get; longer values are cut with `…`.
@@ -235,5 +287,28 @@ mod tests {
         assert_eq!(fit("abcdefgh", 5), "abcd…");
         assert_eq!(fit("Müller", 6), "Müller");
         assert_eq!(fit("Müllerstraße", 6).chars().count(), 6);
+    }
+
+    #[test]
+    fn finds_the_refusal_of_a_pair_in_either_order() {
+        let dir = std::env::temp_dir().join(format!("samekey-refused-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let p = dir.join("refused.csv");
+        std::fs::write(
+            &p,
+            "source_a,id_a,source_b,id_b,evidence_bits,reason\n\
+             crm,c1,crm,c2,12.5000,two records of a source with one record per customer\n",
+        )
+        .unwrap();
+        let why = refused_reason(&p, ("crm", "c2"), ("crm", "c1")).unwrap();
+        assert_eq!(
+            why.as_deref(),
+            Some("two records of a source with one record per customer")
+        );
+        assert_eq!(
+            refused_reason(&p, ("crm", "c1"), ("shop", "s1")).unwrap(),
+            None
+        );
+        std::fs::remove_dir_all(&dir).unwrap();
     }
 }
