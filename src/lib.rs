@@ -25,6 +25,7 @@ pub mod output;
 pub mod pipeline;
 pub mod prepare;
 pub mod record;
+pub mod refresh;
 pub mod score;
 pub mod sources;
 pub mod spec;

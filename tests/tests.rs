@@ -9,4 +9,5 @@ mod exit_codes;
 mod help;
 mod link;
 mod module_graph;
+mod refresh;
 mod tricky;

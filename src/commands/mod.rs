@@ -10,9 +10,11 @@ use clap::{Parser, Subcommand};
 pub mod demo;
 pub mod evaluate;
 pub mod explain;
+pub mod export;
 pub mod link;
 pub mod merge;
 pub mod plan;
+pub mod refresh;
 pub mod summary;
 pub mod synth;
 pub mod train;
@@ -33,6 +35,8 @@ pub struct Cli {
 pub enum Command {
     /// Run the whole pipeline on the shipped demo data and evaluate it against its truth.
     Demo(demo::Args),
+    /// Write the store's current crosswalk and key events as CSV.
+    Export(export::Args),
     /// Explain the comparison of two records, attribute by attribute.
     Explain(explain::Args),
     /// Link the sources a spec names: crosswalk, pairs, review queue, rejects, model.
@@ -41,6 +45,8 @@ pub enum Command {
     Merge(merge::Args),
     /// Estimate candidate pairs per blocking key before comparing anything.
     Plan(plan::Args),
+    /// Re-link the sources and commit the run to the store, keeping customer keys stable.
+    Refresh(refresh::Args),
     /// Fit a model on the sources a spec names and save it, without linking.
     Train(train::Args),
     /// Generate multi-source customer data with ground truth (invented scenario).
@@ -112,9 +118,11 @@ pub fn main() -> ExitCode {
     let result = match &cli.command {
         Command::Demo(a) => demo::run(a, global),
         Command::Explain(a) => explain::run(a, global),
+        Command::Export(a) => export::run(a, global),
         Command::Link(a) => link::run(a, global),
         Command::Merge(a) => merge::run(a, global),
         Command::Plan(a) => plan::run(a, global),
+        Command::Refresh(a) => refresh::run(a, global),
         Command::Train(a) => train::run(a, global),
         Command::Synth(a) => synth::run(a, global),
         Command::Evaluate(a) => evaluate::run(a, global),

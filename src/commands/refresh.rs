@@ -1,0 +1,210 @@
+//! `samekey refresh`: re-link the sources a spec names and commit the run to the store,
+//! keeping customer keys stable (see `samekey::keys::inherit`).
+
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use anyhow::Context;
+use samekey::model::Model;
+use samekey::refresh::{self, RefreshSummary};
+use samekey::spec::Spec;
+use samekey::store::{self, Store};
+
+use super::{Global, Hint};
+
+/// Arguments of `samekey refresh`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The linkage spec (TOML).
+    #[arg(long)]
+    pub spec: PathBuf,
+    /// The run store: a SQLite file (created on first use), `sqlite:PATH`, or
+    /// `postgres://USER@HOST/DATABASE` (password from the URL or ~/.pgpass is never
+    /// printed). Default: `samekey-store.db` next to the spec.
+    #[arg(long, value_name = "URL")]
+    pub store: Option<String>,
+    /// Fit a new model instead of scoring with the store's latest model for this spec.
+    #[arg(long)]
+    pub refit: bool,
+    /// Show what the refresh would do, without committing anything.
+    #[arg(long)]
+    pub dry_run: bool,
+    /// Write rejected rows to this CSV file.
+    #[arg(long, value_name = "FILE")]
+    pub rejects: Option<PathBuf>,
+}
+
+/// The default store of a spec: `samekey-store.db` in the spec's folder.
+pub fn default_store(spec: &Path) -> String {
+    let dir = spec.parent().filter(|p| !p.as_os_str().is_empty());
+    dir.map_or_else(
+        || PathBuf::from("samekey-store.db"),
+        |d| d.join("samekey-store.db"),
+    )
+    .display()
+    .to_string()
+}
+
+/// Test hook: with `SAMEKEY_TEST_PAUSE=<point>`, stop at that point of the refresh
+/// (print `paused at <point>` on stderr and sleep) so that a test can kill the process
+/// there. Points: `locked`, `linked`, `written` (run written, not committed).
+fn pause_point(point: &str) {
+    if std::env::var("SAMEKEY_TEST_PAUSE").is_ok_and(|p| p == point) {
+        eprintln!("paused at {point}");
+        let _ = std::io::stderr().flush();
+        std::thread::sleep(std::time::Duration::from_secs(600));
+    }
+}
+
+/// Run `samekey refresh`.
+pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
+    let started_at = store::now_utc();
+    let spec = Spec::load(&args.spec)
+        .map_err(anyhow::Error::from)
+        .with_context(|| {
+            Hint("the spec keys are described in the README, section \"Spec reference\"".into())
+        })?;
+    let spec_text =
+        std::fs::read_to_string(&args.spec).map_err(|e| samekey::Error::io(&args.spec, e))?;
+    let location = args
+        .store
+        .clone()
+        .unwrap_or_else(|| default_store(&args.spec));
+    let mut store = Store::open(&location)?;
+    // The write lock is held from here to the commit: a second refresh is refused now,
+    // before it reads anything.
+    store.begin_refresh()?;
+    pause_point("locked");
+    let result = refresh_locked(args, global, &spec, &spec_text, &mut store, started_at);
+    match result {
+        Ok(summary) => {
+            if !global.quiet {
+                print_summary(&summary, store.location(), args.dry_run);
+            }
+            Ok(())
+        }
+        Err(e) => {
+            let _ = store.rollback();
+            Err(e)
+        }
+    }
+}
+
+fn refresh_locked(
+    args: &Args,
+    global: Global,
+    spec: &Spec,
+    spec_text: &str,
+    store: &mut Store,
+    started_at: String,
+) -> anyhow::Result<RefreshSummary> {
+    let prev = store.previous()?;
+    let model = if args.refit {
+        None
+    } else {
+        match store.latest_model(&spec.model_fingerprint())? {
+            Some(text) => Some(model_from_store(&text, spec, store.location())?),
+            None => None,
+        }
+    };
+    let linked = refresh::link_in_memory(spec, model, !global.quiet)?;
+    pause_point("linked");
+    if let Some(path) = &args.rejects {
+        let mut text = String::from("source,line,reason\n");
+        for r in &linked.rejects {
+            samekey::output::push_field(&mut text, &r.source);
+            text.push_str(&format!(",{},", r.line));
+            samekey::output::push_field(&mut text, &r.reason);
+            text.push('\n');
+        }
+        samekey::output::write_atomic(path, text.as_bytes())?;
+    }
+    let (mut run, summary) = refresh::plan_run(spec_text, spec, &prev, &linked, started_at)?;
+    if args.dry_run {
+        store.rollback()?;
+        return Ok(summary);
+    }
+    run.finished_at = store::now_utc();
+    store.write_run(&run)?;
+    pause_point("written");
+    store.commit()?;
+    Ok(summary)
+}
+
+/// A stored model, checked against the spec like a model file.
+fn model_from_store(text: &str, spec: &Spec, location: &str) -> anyhow::Result<Model> {
+    let dir = tempfile_dir()?;
+    let path = dir.join("stored-model.toml");
+    std::fs::write(&path, text).map_err(|e| samekey::Error::io(&path, e))?;
+    let model = Model::load(&path, spec).with_context(|| {
+        format!("the latest model in store `{location}` does not fit this spec; run with --refit")
+    });
+    let _ = std::fs::remove_dir_all(&dir);
+    model
+}
+
+/// A private temporary folder (removed by the caller).
+fn tempfile_dir() -> anyhow::Result<PathBuf> {
+    let dir = std::env::temp_dir().join(format!(
+        "samekey-refresh-{}-{}",
+        std::process::id(),
+        store::now_utc().replace(':', "")
+    ));
+    std::fs::create_dir_all(&dir).map_err(|e| samekey::Error::io(&dir, e))?;
+    Ok(dir)
+}
+
+/// Print the refresh summary.
+pub fn print_summary(s: &RefreshSummary, location: &str, dry_run: bool) {
+    let prev = s
+        .previous_run
+        .map_or_else(|| "first run".to_string(), |p| format!("previous run {p}"));
+    println!("refresh: run {} ({prev}), store `{location}`", s.run);
+    println!(
+        "  {:<16} {:>10} {:>8} {:>8} {:>8} {:>9}",
+        "source", "records", "added", "changed", "deleted", "rejected"
+    );
+    for c in &s.sources {
+        println!(
+            "  {:<16} {:>10} {:>8} {:>8} {:>8} {:>9}",
+            c.source, c.records, c.added, c.changed, c.deleted, c.rejected
+        );
+    }
+    println!(
+        "  records {}, customers {}, match pairs {}, review pairs {}, records that changed \
+         customer {}",
+        s.records, s.customers, s.match_edges, s.review_edges, s.moved
+    );
+    println!(
+        "  model: {}",
+        if s.fitted {
+            "fitted in this run"
+        } else {
+            "the store's latest model for this spec"
+        }
+    );
+    let counts: Vec<String> = s
+        .events
+        .iter()
+        .map(|(k, n, _)| format!("{} {n}", k.name()))
+        .collect();
+    println!("  key events: {}", counts.join(", "));
+    for (_, _, examples) in &s.events {
+        for e in examples {
+            let other = match (e.event.as_str(), &e.other) {
+                ("merged_into", Some(o)) => format!(" -> {o}"),
+                ("split_from", Some(o)) => format!(" <- {o}"),
+                _ => String::new(),
+            };
+            println!(
+                "    {:<12} {}{other} ({} records)",
+                e.event, e.key, e.records
+            );
+        }
+    }
+    if dry_run {
+        println!("dry run: nothing was committed");
+    } else {
+        println!("committed run {}", s.run);
+    }
+}
