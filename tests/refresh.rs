@@ -366,8 +366,13 @@ fn second_refresh_refused(store: &str) {
         ],
         None,
     );
-    let (_, err) = text(&o);
-    assert_eq!(o.status.code(), Some(2), "{err}");
+    let (out, err) = text(&o);
+    assert_eq!(
+        o.status.code(),
+        Some(2),
+        "status {:?}\nstdout:\n{out}\nstderr:\n{err}",
+        o.status
+    );
     assert!(
         err.contains("is busy: another refresh is writing to it"),
         "{err}"
