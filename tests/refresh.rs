@@ -321,7 +321,13 @@ fn default_store_sits_next_to_the_spec_and_dry_run_commits_nothing() {
 }
 
 /// Start a refresh that stops at `point` (test hook) and wait until it is there.
-fn paused_refresh(dir: &Path, store: &str, point: &str) -> std::process::Child {
+/// Returns the child and its stderr, which must stay open while the child runs (a
+/// closed pipe would end it with SIGPIPE at its next message).
+fn paused_refresh(
+    dir: &Path,
+    store: &str,
+    point: &str,
+) -> (std::process::Child, std::process::ChildStderr) {
     let spec = dir.join("spec.toml");
     let mut child = Command::new(crate::common::bin())
         .args([
@@ -339,13 +345,13 @@ fn paused_refresh(dir: &Path, store: &str, point: &str) -> std::process::Child {
     let mut err = child.stderr.take().unwrap();
     let mut seen = String::new();
     let mut buf = [0u8; 256];
-    while !seen.contains(&format!("paused at {point}")) {
+    while !seen.contains(&format!("paused at {point}\n")) {
         use std::io::Read;
         let n = err.read(&mut buf).unwrap();
         assert!(n > 0, "refresh ended before {point}: {seen}");
         seen.push_str(&String::from_utf8_lossy(&buf[..n]));
     }
-    child
+    (child, err)
 }
 
 /// While one refresh holds the store, a second is refused at once with a clear message;
@@ -354,7 +360,7 @@ fn second_refresh_refused(store: &str) {
     let dir = scenario_dir();
     let d = dir.path();
     refresh(d, store, &[]);
-    let mut first = paused_refresh(d, store, "linked");
+    let (mut first, _first_err) = paused_refresh(d, store, "linked");
     let spec = d.join("spec.toml");
     let o = run(
         &[
@@ -404,7 +410,7 @@ fn kill_leaves_previous_run(store: &str) {
     let (cw1, ev1) = export(d, store, 0);
     second_batch(d);
     for point in ["locked", "linked", "written"] {
-        let mut child = paused_refresh(d, store, point);
+        let (mut child, _err) = paused_refresh(d, store, point);
         child.kill().unwrap(); // SIGKILL
         child.wait().unwrap();
         let (cw, ev) = export(d, store, 0);

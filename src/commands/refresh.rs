@@ -50,8 +50,8 @@ pub fn default_store(spec: &Path) -> String {
 /// there. Points: `locked`, `linked`, `written` (run written, not committed).
 fn pause_point(point: &str) {
     if std::env::var("SAMEKEY_TEST_PAUSE").is_ok_and(|p| p == point) {
-        eprintln!("paused at {point}");
-        let _ = std::io::stderr().flush();
+        // One write, so that a reader sees the whole line at once.
+        let _ = std::io::stderr().write_all(format!("paused at {point}\n").as_bytes());
         std::thread::sleep(std::time::Duration::from_secs(600));
     }
 }
