@@ -16,6 +16,7 @@
 pub mod block;
 pub mod cluster;
 pub mod compare;
+pub mod csvio;
 pub mod decide;
 pub mod error;
 pub mod evaluate;

@@ -38,6 +38,7 @@ use std::collections::{HashMap, HashSet};
 use std::hash::BuildHasherDefault;
 use std::path::Path;
 
+use crate::csvio::CsvTable;
 use crate::util::stable_hash;
 use crate::{Error, Result};
 
@@ -529,101 +530,14 @@ pub fn blocking_metrics(truth: &Grouping, pairs: &CandidatePairs) -> BlockingMet
 // Readers
 // ---------------------------------------------------------------------------
 
-/// A CSV reader plus the positions of the wanted columns.
-struct Table {
-    rdr: csv::Reader<std::fs::File>,
-    cols: Vec<usize>,
-}
-
-fn open_table(path: &Path, wanted: &[&str]) -> Result<Table> {
-    let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-    let mut rdr = csv::ReaderBuilder::new()
-        .trim(csv::Trim::All)
-        .from_reader(file);
-    let headers = rdr
-        .headers()
-        .map_err(|source| Error::Csv {
-            path: path.into(),
-            source,
-        })?
-        .clone();
-    let mut cols = Vec::with_capacity(wanted.len());
-    for w in wanted {
-        match headers.iter().position(|h| h == *w) {
-            Some(i) => cols.push(i),
-            None => {
-                let found = if headers.iter().all(str::is_empty) {
-                    "no header (empty file?)".to_owned()
-                } else {
-                    headers
-                        .iter()
-                        .map(|h| format!("`{h}`"))
-                        .collect::<Vec<_>>()
-                        .join(", ")
-                };
-                return Err(Error::input(
-                    path,
-                    format!(
-                        "missing column `{w}`: the header must name {}; found {found}",
-                        wanted
-                            .iter()
-                            .map(|h| format!("`{h}`"))
-                            .collect::<Vec<_>>()
-                            .join(", ")
-                    ),
-                ));
-            }
-        }
-    }
-    Ok(Table { rdr, cols })
-}
-
-impl Table {
-    /// Calls `f(line, values)` for every data row, with the wanted columns' values
-    /// (each checked to be non-empty).
-    fn for_each(
-        &mut self,
-        path: &Path,
-        wanted: &[&str],
-        mut f: impl FnMut(u64, &[&str]) -> Result<()>,
-    ) -> Result<()> {
-        let mut row = csv::StringRecord::new();
-        loop {
-            match self.rdr.read_record(&mut row) {
-                Ok(false) => return Ok(()),
-                Ok(true) => {}
-                Err(source) => {
-                    return Err(Error::Csv {
-                        path: path.into(),
-                        source,
-                    })
-                }
-            }
-            let line = row.position().map_or(0, |p| p.line());
-            let mut values: Vec<&str> = Vec::with_capacity(self.cols.len());
-            for (&c, name) in self.cols.iter().zip(wanted) {
-                let v = row.get(c).unwrap_or("");
-                if v.is_empty() {
-                    return Err(Error::input(
-                        path,
-                        format!("line {line}: empty `{name}`; every row needs a value there"),
-                    ));
-                }
-                values.push(v);
-            }
-            f(line, &values)?;
-        }
-    }
-}
-
 fn read_grouping(path: &Path, group_col: &str) -> Result<Grouping> {
     let wanted = ["source", "source_id", group_col];
-    let mut table = open_table(path, &wanted)?;
+    let mut table = CsvTable::open(path, true)?;
     let mut g = Grouping::default();
     // Line of every record, to point at the first copy of a repeated record.
     let mut lines: Vec<u64> = Vec::new();
     let mut key = Vec::new();
-    table.for_each(path, &wanted, |line, v| {
+    table.for_each_filled(&wanted, |line, v| {
         if let Some(first) = g.insert(&mut key, v[0], v[1], v[2])? {
             return Err(Error::input(
                 path,
@@ -675,10 +589,10 @@ pub fn read_crosswalk(path: impl AsRef<Path>) -> Result<Grouping> {
 pub fn read_pairs(path: impl AsRef<Path>, truth: &Grouping) -> Result<CandidatePairs> {
     let path = path.as_ref();
     let wanted = ["source_a", "id_a", "source_b", "id_b"];
-    let mut table = open_table(path, &wanted)?;
+    let mut table = CsvTable::open(path, true)?;
     let mut pairs = CandidatePairs::default();
     let mut key = Vec::new();
-    table.for_each(path, &wanted, |_, v| {
+    table.for_each_filled(&wanted, |_, v| {
         let mut lookup = |s: &str, id: &str| {
             record_key(&mut key, s, id);
             truth.records.get(&key).map(|p| p as usize)
@@ -726,9 +640,9 @@ pub struct DecisionMetrics {
 pub fn decision_metrics(path: impl AsRef<Path>, truth: &Grouping) -> Result<DecisionMetrics> {
     let path = path.as_ref();
     let wanted = ["source_a", "id_a", "source_b", "id_b", "decision"];
-    let mut table = open_table(path, &wanted)?;
+    let mut table = CsvTable::open(path, true)?;
     let mut m = DecisionMetrics::default();
-    table.for_each(path, &wanted, |_, v| {
+    table.for_each_filled(&wanted, |_, v| {
         let same = match (truth.position(v[0], v[1]), truth.position(v[2], v[3])) {
             (Some(a), Some(b)) => truth.same_group(a, b),
             _ => false,

@@ -6,6 +6,7 @@ use std::collections::HashMap;
 use std::path::Path;
 
 use crate::cluster::{Clusters, Edge};
+use crate::csvio::CsvTable;
 use crate::decide::Decision;
 use crate::decide::{PairSink, ScoredPair};
 use crate::error::{Error, Result};
@@ -94,34 +95,21 @@ pub fn read_match_edges(path: &Path, table: &RecordTable) -> Result<Vec<Edge>> {
     for r in 0..table.len() {
         index.insert((table.source_name(r), table.id[r].as_str()), r as u32);
     }
-    let csv_err = |e| Error::Csv {
-        path: path.to_path_buf(),
-        source: e,
-    };
-    let mut rdr = csv::Reader::from_path(path).map_err(csv_err)?;
-    let headers = rdr.headers().map_err(csv_err)?.clone();
-    let col = |name: &str| {
-        headers.iter().position(|h| h == name).ok_or_else(|| {
-            Error::input(
-                path,
-                format!("missing column `{name}`; is this a samekey pairs.csv?"),
-            )
-        })
-    };
-    let cols = [
-        col("source_a")?,
-        col("id_a")?,
-        col("source_b")?,
-        col("id_b")?,
-    ];
-    let (wcol, dcol) = (col("evidence_bits")?, col("decision")?);
+    let mut rdr = CsvTable::open(path, false)?;
+    let cols = rdr.columns(&[
+        "source_a",
+        "id_a",
+        "source_b",
+        "id_b",
+        "evidence_bits",
+        "decision",
+    ])?;
+    let (wcol, dcol) = (cols[4], cols[5]);
     let mut edges = Vec::new();
-    for row in rdr.records() {
-        let row = row.map_err(csv_err)?;
+    rdr.for_each_row(|line, row| {
         if row.get(dcol) != Some(Decision::Match.name()) {
-            continue;
+            return Ok(());
         }
-        let line = row.position().map_or(0, |p| p.line());
         let rec = |s: usize, i: usize| {
             let key = (
                 row.get(cols[s]).unwrap_or(""),
@@ -146,6 +134,7 @@ pub fn read_match_edges(path: &Path, table: &RecordTable) -> Result<Vec<Edge>> {
             )
         })?;
         edges.push(Edge { a, b, weight });
-    }
+        Ok(())
+    })?;
     Ok(edges)
 }

@@ -704,12 +704,7 @@ fn read_headers<R: std::io::Read>(reader: &mut csv::Reader<R>, path: &Path) -> R
                 ),
             )
         })?;
-        let h = if i == 0 {
-            h.trim_start_matches('\u{feff}')
-        } else {
-            h
-        };
-        headers.push(h.trim().to_string());
+        headers.push(crate::csvio::clean_header(i, h));
     }
     Ok(headers)
 }
@@ -721,7 +716,7 @@ fn find_column(
     source: &str,
     role: &str,
 ) -> Result<usize> {
-    headers.iter().position(|h| h == wanted).ok_or_else(|| {
+    crate::csvio::find_header(headers, wanted).ok_or_else(|| {
         Error::input(
             path,
             format!(

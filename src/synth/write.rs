@@ -10,6 +10,7 @@ use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
 use super::{Dataset, NoiseKind, NoiseStats, Source};
+use crate::csvio::CsvWriter;
 use crate::Error;
 
 /// What [`write_dataset`] wrote.
@@ -183,24 +184,15 @@ max_iterations = 100
 "#
 }
 
-fn csv_err(path: &Path) -> impl Fn(csv::Error) -> Error + '_ {
-    move |source| Error::write_csv(path, source)
-}
-
 /// Write one source table as CSV.
 fn write_source(data: &Dataset, source: Source, path: &Path) -> crate::Result<()> {
-    let file = File::create(path).map_err(|e| Error::write(path, e))?;
-    let mut w = csv::Writer::from_writer(BufWriter::with_capacity(1 << 20, file));
-    w.write_record(source.header()).map_err(csv_err(path))?;
+    let mut w = CsvWriter::create(path)?;
+    w.row(source.header())?;
     for r in data.table(source).records() {
         let id = r.id();
-        w.write_record(std::iter::once(id.as_str()).chain(r.values()))
-            .map_err(csv_err(path))?;
+        w.row(std::iter::once(id.as_str()).chain(r.values()))?;
     }
-    let mut inner = w
-        .into_inner()
-        .map_err(|e| Error::write(path, e.into_error()))?;
-    inner.flush().map_err(|e| Error::write(path, e))
+    w.finish()
 }
 
 /// Write the truth file.
