@@ -22,7 +22,7 @@ use crate::prepare::{PrepareOptions, Prepared};
 use crate::record::RecordTable;
 use crate::score::{score_all, threshold_for_target, PairScorer};
 use crate::spec::Spec;
-use crate::summary::{run_id, KeySummary, MergeSummary, RunSummary};
+use crate::summary::{KeySummary, MergeSummary, RunSummary};
 use crate::util::cpu::process_cpu_time;
 use crate::util::Progress;
 
@@ -47,6 +47,9 @@ pub struct RunOptions {
 /// Run the whole pipeline and write the outputs.
 pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     let cpu_start = process_cpu_time();
+    // Check and lock the output folder first: a bad --out or a folder another run is
+    // writing should fail before the heavy work (and before any input is read).
+    let mut staging = Staging::new(&opts.out)?;
     // Check what needs no data first: a bad model file or flag fails before the work.
     let loaded_model = match &opts.model {
         Some(p) => Some(Model::load(p, spec)?),
@@ -67,6 +70,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
             purpose: "linking",
         },
     )?;
+    crate::output::staging::crash_point("after-read");
     if let Some((i, n)) = opts.shard {
         prepared.shard(i, n);
     }
@@ -128,7 +132,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         clock = t.record("choose threshold", clock);
     }
 
-    let mut staging = Staging::new(&opts.out)?;
+    record_run_facts(&mut staging, spec, opts, scorer.decider())?;
     let bar = pair_bar("score + write pairs");
     let pairs = PairsFile::create(&mut staging, opts.pairs, &p.table, &p.comparison)?;
     let review = ReviewFile::new(&p.table, &p.comparison);
@@ -138,6 +142,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     let (pairs, (review, edges)) = sink;
     pairs.finish()?;
     clock = t.record("score + write pairs", clock);
+    crate::output::staging::crash_point("after-score");
 
     let clusters = if opts.shard.is_some() {
         None
@@ -158,7 +163,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
 
     let decider = *scorer.decider();
     let mut summary = RunSummary {
-        run_id: run_id(),
+        run_id: staging.run_id().to_string(),
         sources: p.reports.clone(),
         std_stats: p.stats.clone(),
         records: p.table.len(),
@@ -209,6 +214,50 @@ fn key_summaries(p: &Prepared, new_pairs: &[u64]) -> Vec<KeySummary> {
         .collect()
 }
 
+/// A fingerprint of what decides a shard's blocks and pairs: the compared attributes and
+/// levels and the blocking keys.
+pub fn spec_shard_fingerprint(spec: &Spec) -> String {
+    let text = format!("{}\n{:?}", spec.model_fingerprint(), spec.blocks);
+    format!("{:016x}", crate::util::stable_hash(text.as_bytes()))
+}
+
+/// Record in the run's manifest what `merge` checks: the shard, the spec and model it
+/// was scored with and its thresholds.
+fn record_run_facts(
+    staging: &mut Staging,
+    spec: &Spec,
+    opts: &RunOptions,
+    decider: &Decider,
+) -> Result<()> {
+    staging.set_meta("command", "link");
+    staging.set_meta("spec_fingerprint", spec_shard_fingerprint(spec));
+    staging.set_meta(
+        "thresholds",
+        format!("{:.6}/{:.6}", decider.upper, decider.lower),
+    );
+    if let Some(p) = &opts.model {
+        let bytes = std::fs::read(p).map_err(|e| Error::io(p, e))?;
+        staging.set_meta(
+            "model_fingerprint",
+            format!("{:016x}", crate::util::stable_hash(&bytes)),
+        );
+    }
+    if let Some(t) = opts.target_precision {
+        staging.set_meta("target_precision", t.to_string());
+    }
+    staging.set_meta(
+        "pairs",
+        match opts.pairs {
+            PairsOutput::All => "all",
+            PairsOutput::Linked => "linked",
+        },
+    );
+    if let Some((i, n)) = opts.shard {
+        staging.set_meta("shard", format!("{}/{n}", i + 1));
+    }
+    Ok(())
+}
+
 /// Cluster matched edges with the spec's guards, assign keys, and stage
 /// `crosswalk.csv` and `refused.csv`.
 fn cluster_and_write(
@@ -237,6 +286,9 @@ fn write_keys(
 /// Cluster the matched pairs of several shard runs (their `pairs.csv`) into one
 /// crosswalk, exactly as an unsharded run would.
 pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path, progress: bool) -> Result<MergeSummary> {
+    let mut staging = Staging::new(out)?;
+    check_shard_set(spec, shards)?;
+    staging.set_meta("command", "merge");
     let p = Prepared::new(
         spec,
         PrepareOptions {
@@ -252,7 +304,6 @@ pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path, progress: bool) -> Res
     }
     spin.finish();
     let spin = Progress::spinner(progress, "cluster + keys");
-    let mut staging = Staging::new(out)?;
     let clusters = cluster_and_write(spec, &p, &edges, &mut staging)?;
     let outputs = staging.commit()?;
     spin.finish();
@@ -264,6 +315,95 @@ pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path, progress: bool) -> Res
         refused_merges: clusters.refused.len(),
         outputs,
     })
+}
+
+/// Check that `shards` are the complete output of one sharded run of this spec: each
+/// folder holds a complete shard run (its manifest), all of the same shard count, spec,
+/// model and thresholds, and every shard `1..=N` is given exactly once.
+pub fn check_shard_set(spec: &Spec, shards: &[PathBuf]) -> Result<()> {
+    use crate::output::staging::Manifest;
+    let mut seen: Vec<Option<&Path>> = Vec::new();
+    let mut first: Option<(&Path, Manifest)> = None;
+    let want_spec = spec_shard_fingerprint(spec);
+    for dir in shards {
+        let m = Manifest::read_current(dir)?;
+        let Some((i, n)) = m.meta("shard").and_then(|s| {
+            let (i, n) = s.split_once('/')?;
+            let (i, n) = (i.parse::<usize>().ok()?, n.parse::<usize>().ok()?);
+            (i >= 1 && i <= n && n <= 1 << 16).then_some((i, n))
+        }) else {
+            return Err(Error::input(
+                dir,
+                "this folder holds no shard run (its last run was not `samekey link \
+                 --shard I/N`); give the output folders of the shard runs",
+            ));
+        };
+        if m.meta("spec_fingerprint") != Some(want_spec.as_str()) {
+            return Err(Error::input(
+                dir,
+                "this shard was run with another spec (different compared attributes, \
+                 levels or blocking keys) than the one given to merge",
+            ));
+        }
+        if let Some((fdir, f)) = &first {
+            let differs = |key: &str| f.meta(key) != m.meta(key);
+            let what =
+                if f.meta("shard").map(|s| s.split('/').nth(1)) != Some(Some(&*n.to_string())) {
+                    Some(format!(
+                        "shard count ({n} against {})",
+                        f.meta("shard").unwrap_or("")
+                    ))
+                } else if differs("model_fingerprint") {
+                    Some("model file".to_string())
+                } else if differs("thresholds") {
+                    Some(
+                        "match or review threshold (each shard chose its own with \
+                     --target-precision?); run every shard with the same thresholds"
+                            .to_string(),
+                    )
+                } else {
+                    None
+                };
+            if let Some(what) = what {
+                return Err(Error::input(
+                    dir,
+                    format!(
+                        "this shard does not belong to the same sharded run as `{}`: \
+                         different {what}",
+                        fdir.display()
+                    ),
+                ));
+            }
+        } else {
+            seen = vec![None; n];
+        }
+        if let Some(other) = seen[i - 1] {
+            return Err(Error::input(
+                dir,
+                format!(
+                    "shard {i}/{n} is given twice (also `{}`); give each shard once",
+                    other.display()
+                ),
+            ));
+        }
+        seen[i - 1] = Some(dir.as_path());
+        if first.is_none() {
+            first = Some((dir.as_path(), m));
+        }
+    }
+    let missing: Vec<String> = seen
+        .iter()
+        .enumerate()
+        .filter(|(_, s)| s.is_none())
+        .map(|(i, _)| format!("{}/{}", i + 1, seen.len()))
+        .collect();
+    if !missing.is_empty() {
+        return Err(Error::Usage(format!(
+            "merge needs every shard of the run; missing: {}",
+            missing.join(", ")
+        )));
+    }
+    Ok(())
 }
 
 #[cfg(test)]

@@ -110,12 +110,11 @@ fn a_failed_run_leaves_previous_outputs_intact() {
         before,
         std::fs::read(dir.path().join("out/crosswalk.csv")).unwrap()
     );
-    let left: Vec<_> = std::fs::read_dir(dir.path().join("out"))
+    let left: Vec<_> = std::fs::read_dir(dir.path().join("out/.samekey/runs"))
         .unwrap()
         .filter_map(|e| e.ok())
-        .filter(|e| e.file_name().to_string_lossy().starts_with('.'))
         .collect();
-    assert!(left.is_empty(), "staging files left behind");
+    assert_eq!(left.len(), 1, "partial run folder left behind: {left:?}");
 }
 
 #[test]

@@ -346,6 +346,18 @@ fn committed_model_files_keep_loading() {
 #[test]
 fn target_precision_moves_the_match_threshold() {
     let dir = mini_copy();
+    // The mini data separate so clearly that any target puts the match threshold below
+    // the spec's review threshold, which is refused with the numbers:
+    let o = link(dir.path(), "a", &["--target-precision", "0.6"], None);
+    assert_eq!(o.status.code(), Some(2));
+    let err = text(&o).1;
+    assert!(
+        err.contains("below the review threshold (probability 0.500000)"),
+        "{err}"
+    );
+    let spec = dir.path().join("spec.toml");
+    let s = std::fs::read_to_string(&spec).unwrap();
+    std::fs::write(&spec, s.replace("review_at = 0.5", "review_at = 0.0000001")).unwrap();
     let o = link(dir.path(), "a", &["--target-precision", "0.6"], None);
     let (out, err) = text(&o);
     assert!(o.status.success(), "{err}");

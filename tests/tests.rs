@@ -4,6 +4,7 @@ mod bad_input;
 mod cli;
 mod common;
 mod contract;
+mod durable;
 mod evaluate;
 mod exit_codes;
 mod help;

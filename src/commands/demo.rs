@@ -57,6 +57,7 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         None => "the demo data built into samekey (demo-data/ in its repository)".into(),
     };
     let spec = Spec::load(&data.join("spec.toml"))?;
+    samekey::evaluate::read_truth(data.join("truth.csv"))?;
     let opts = RunOptions {
         progress: !global.quiet,
         out: args.out.clone(),
@@ -67,7 +68,7 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         println!("samekey demo: invented customers of three systems, see {shown}\n");
         summary::print(&summary, args.timings);
     }
-    summary::print_actual(&data.join("truth.csv"), &args.out, &summary, global)?;
+    summary::print_actual(&data.join("truth.csv"), &args.out, &summary, true, global)?;
     if !global.quiet {
         println!("\nAll outputs are in {}", args.out.display());
     }

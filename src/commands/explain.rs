@@ -5,7 +5,6 @@ use std::path::PathBuf;
 use samekey::model::Model;
 use samekey::prepare::{PrepareOptions, Prepared};
 use samekey::score::{self, Explanation};
-use samekey::spec::Spec;
 
 use super::Global;
 
@@ -45,7 +44,7 @@ fn parse_record(s: &str) -> Result<(String, String), String> {
 
 /// Run `samekey explain`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
-    let spec = Spec::load(&args.spec)?;
+    let spec = super::values::load_spec(&args.spec)?;
     if args.a == args.b {
         return Err(samekey::Error::Usage(format!(
             "`{}:{}` was given twice; explain compares two different records",

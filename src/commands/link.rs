@@ -5,7 +5,6 @@ use std::path::PathBuf;
 use anyhow::Context;
 use samekey::output::PairsOutput;
 use samekey::pipeline::{self, RunOptions};
-use samekey::spec::Spec;
 
 use super::{summary, Global, Hint};
 
@@ -26,14 +25,14 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = PairsArg::All)]
     pub pairs: PairsArg,
     /// Choose the match threshold so that the model's estimated precision is P (0..1).
-    #[arg(long, value_name = "P")]
+    #[arg(long, value_name = "P", allow_negative_numbers = true, value_parser = super::values::open_fraction)]
     pub target_precision: Option<f64>,
     /// Truth file (`source,source_id,entity_id`): print actual quality next to estimates.
     #[arg(long)]
     pub truth: Option<PathBuf>,
     /// Score only shard I of N (e.g. `--shard 2/4`); needs --model. Combine the shards'
     /// outputs with `samekey merge`.
-    #[arg(long, value_name = "I/N", value_parser = parse_shard)]
+    #[arg(long, value_name = "I/N", value_parser = parse_shard, allow_hyphen_values = true)]
     pub shard: Option<(usize, usize)>,
     /// Print the time spent per stage.
     #[arg(long)]
@@ -77,11 +76,9 @@ impl From<PairsArg> for PairsOutput {
 
 /// Run `samekey link`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
-    let spec = Spec::load(&args.spec)
-        .map_err(anyhow::Error::from)
-        .with_context(|| {
-            Hint("the spec keys are described in the README, section \"Spec reference\"".into())
-        })?;
+    let spec = super::values::load_spec(&args.spec).with_context(|| {
+        Hint("the spec keys are described in the README, section \"Spec reference\"".into())
+    })?;
     if args.shard.is_some() && args.truth.is_some() {
         return Err(samekey::Error::Usage(
             "--truth needs a crosswalk, which a shard run does not write; evaluate the output \
@@ -90,13 +87,14 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         )
         .into());
     }
-    if let Some(p) = args.target_precision {
-        if !(p > 0.0 && p < 1.0) {
-            return Err(samekey::Error::Usage(format!(
-                "--target-precision {p}: give a precision strictly between 0 and 1, e.g. 0.99"
-            ))
-            .into());
-        }
+    // Read and check every input before anything is replaced: a bad model or truth
+    // file must not cost the previous outputs.
+    if let Some(m) = &args.model {
+        super::values::input_file(m, "--model", true)?;
+    }
+    if let Some(truth) = &args.truth {
+        super::values::input_file(truth, "--truth", true)?;
+        samekey::evaluate::read_truth(truth)?;
     }
     if args.json && args.truth.is_some() {
         return Err(samekey::Error::Usage(
@@ -124,7 +122,13 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     }
     summary::print(&summary, args.timings);
     if let Some(truth) = &args.truth {
-        summary::print_actual(truth, &args.out, &summary, global)?;
+        summary::print_actual(
+            truth,
+            &args.out,
+            &summary,
+            args.pairs == PairsArg::All,
+            global,
+        )?;
     }
     Ok(())
 }

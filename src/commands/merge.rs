@@ -3,7 +3,6 @@
 use std::path::PathBuf;
 
 use samekey::pipeline;
-use samekey::spec::Spec;
 
 use super::Global;
 
@@ -26,7 +25,7 @@ pub struct Args {
 
 /// Run `samekey merge`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
-    let spec = Spec::load(&args.spec)?;
+    let spec = super::values::load_spec(&args.spec)?;
     let s = pipeline::merge(&spec, &args.shards, &args.out, !global.quiet && !args.json)?;
     if global.quiet {
         return Ok(());

@@ -18,6 +18,7 @@ pub mod refresh;
 pub mod summary;
 pub mod synth;
 pub mod train;
+pub mod values;
 
 /// Link customer records from several systems into stable customer keys.
 #[derive(Debug, Parser)]

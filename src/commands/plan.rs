@@ -5,7 +5,6 @@ use std::path::PathBuf;
 use samekey::block::{self, Blocking};
 use samekey::evaluate;
 use samekey::sources;
-use samekey::spec::Spec;
 
 use super::Global;
 
@@ -19,7 +18,7 @@ pub struct Args {
     #[arg(long)]
     pub truth: Option<PathBuf>,
     /// How many of the largest blocks to list per key.
-    #[arg(long, default_value_t = 5)]
+    #[arg(long, default_value_t = 5, allow_negative_numbers = true, value_parser = super::values::count)]
     pub top: usize,
     /// Print the plan as JSON.
     #[arg(long)]
@@ -28,7 +27,7 @@ pub struct Args {
 
 /// Run `samekey plan`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
-    let spec = Spec::load(&args.spec)?;
+    let spec = super::values::load_spec(&args.spec)?;
     let loaded = sources::load(&spec.sources)?;
     let table = &loaded.table;
     let blocking = Blocking::build(table, &spec.blocks, u64::MAX)?;

@@ -119,6 +119,7 @@ pub fn print_actual(
     truth_path: &std::path::Path,
     out: &std::path::Path,
     s: &RunSummary,
+    all_pairs: bool,
     global: super::Global,
 ) -> anyhow::Result<()> {
     use samekey::evaluate;
@@ -126,9 +127,14 @@ pub fn print_actual(
     let crosswalk = evaluate::read_crosswalk(out.join("crosswalk.csv"))?;
     let mut metrics = evaluate::evaluate(&truth, &crosswalk);
     let pairs_file = out.join("pairs.csv");
+    // With `--pairs linked`, pairs.csv holds only the match and review pairs: the
+    // candidate pairs (reduction ratio, pair completeness, recall among candidates) are
+    // not known from it.
     let decisions = evaluate::decision_metrics(&pairs_file, &truth)?;
-    let pairs = evaluate::read_pairs(&pairs_file, &truth)?;
-    metrics.blocking = Some(evaluate::blocking_metrics(&truth, &pairs));
+    if all_pairs {
+        let pairs = evaluate::read_pairs(&pairs_file, &truth)?;
+        metrics.blocking = Some(evaluate::blocking_metrics(&truth, &pairs));
+    }
     if global.quiet {
         return Ok(());
     }
@@ -141,10 +147,21 @@ pub fn print_actual(
         "    precision                          {:>9.4}   {:>6.4}",
         s.estimate.precision, decisions.precision
     );
-    println!(
-        "    recall (of candidates' matches)    {:>9.4}   {:>6.4}",
-        s.estimate.recall, decisions.recall
-    );
+    if all_pairs {
+        println!(
+            "    recall (of candidates' matches)    {:>9.4}   {:>6.4}",
+            s.estimate.recall, decisions.recall
+        );
+    } else {
+        println!(
+            "    recall (of candidates' matches)    {:>9.4}   n/a",
+            s.estimate.recall
+        );
+        println!(
+            "  pairs.csv holds only linked pairs (--pairs linked): recall among candidates, \
+             reduction ratio and pair completeness need `--pairs all`"
+        );
+    }
     for w in super::evaluate::warnings(&metrics) {
         println!("  warning: {w}");
     }

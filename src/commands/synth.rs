@@ -11,10 +11,10 @@ use super::Global;
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// Number of distinct customers to generate.
-    #[arg(long, default_value_t = 1000)]
+    #[arg(long, default_value_t = 1000, allow_negative_numbers = true, value_parser = super::values::positive)]
     pub customers: usize,
     /// Random seed; the same seed gives the same data.
-    #[arg(long, default_value_t = 1)]
+    #[arg(long, default_value_t = 1, allow_negative_numbers = true, value_parser = super::values::seed)]
     pub seed: u64,
     /// Output folder (created if missing).
     #[arg(long)]
@@ -36,6 +36,7 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
         },
     };
     cfg.check()?;
+    samekey::output::staging::check_out_dir(&args.out, "--out")?;
     let started = Instant::now();
     if !global.quiet {
         eprintln!(

@@ -4,7 +4,6 @@ use std::path::PathBuf;
 
 use samekey::model::train;
 use samekey::prepare::{PrepareOptions, Prepared};
-use samekey::spec::Spec;
 use samekey::util::Progress;
 
 use super::Global;
@@ -49,8 +48,9 @@ fn model_path(out: &std::path::Path) -> samekey::Result<PathBuf> {
 
 /// Run `samekey train`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
-    let spec = Spec::load(&args.spec)?;
+    let spec = super::values::load_spec(&args.spec)?;
     let model_file = model_path(&args.out)?;
+    samekey::output::staging::check_out_dir(&args.out, "--out")?;
     let truth = match &args.oracle_truth {
         Some(p) => Some(samekey::evaluate::read_truth(p)?),
         None => None,

@@ -18,18 +18,21 @@
 //! decimals before adding), and `probability` is `1 / (1 + 2^-(prior_bits +
 //! evidence_bits))`.
 //!
-//! Files are written into a staging folder inside the output folder and moved into
-//! place only when the whole run succeeded, so a failed run leaves the previous outputs
-//! as they were.
+//! Files are written into a fresh run folder and switched into place as a whole only
+//! when the whole run succeeded (see [`staging`]), so a failed or killed run leaves the
+//! previous outputs as they were, and two runs never mix.
 
 use std::io::Write;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use crate::error::{Error, Result};
 use crate::sources::Reject;
 
 mod crosswalk;
 mod pairs;
+pub mod staging;
+
+pub use staging::{CsvOut, Staging};
 
 pub use crosswalk::{
     read_match_edges, write_crosswalk, write_refused, MatchEdges, CROSSWALK_COLUMNS,
@@ -40,125 +43,33 @@ pub use pairs::{pairs_header, review_header, PairsFile, PairsOutput, ReviewFile,
 /// The header of `rejects.csv`.
 pub const REJECT_COLUMNS: [&str; 3] = ["source", "line", "reason"];
 
-/// Write `bytes` to `path` through a temporary file in the same folder and a rename.
+/// Write `bytes` to `path` through a temporary file in the same folder, fsynced, and a
+/// rename: a reader sees the old file or the new one, never a part.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
     let dir = path
         .parent()
         .filter(|p| !p.as_os_str().is_empty())
         .unwrap_or(Path::new("."));
-    std::fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))?;
+    std::fs::create_dir_all(dir).map_err(|e| Error::write(dir, e))?;
     let name = path
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
     let tmp = dir.join(format!(".{name}.tmp-{}", std::process::id()));
-    std::fs::write(&tmp, bytes).map_err(|e| Error::write(&tmp, e))?;
+    let written = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()
+    })();
+    if let Err(e) = written {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(Error::write(&tmp, e));
+    }
     std::fs::rename(&tmp, path).map_err(|e| {
         let _ = std::fs::remove_file(&tmp);
         Error::write(path, e)
-    })
-}
-
-/// A staging folder for one run's outputs; [`Staging::commit`] moves them into place.
-#[derive(Debug)]
-pub struct Staging {
-    out: PathBuf,
-    dir: PathBuf,
-    files: Vec<String>,
-}
-
-impl Staging {
-    /// Create the output folder (if needed) and a fresh staging folder inside it.
-    pub fn new(out: &Path) -> Result<Staging> {
-        std::fs::create_dir_all(out).map_err(|e| Error::io(out, e))?;
-        let dir = out.join(format!(".staging-{}", std::process::id()));
-        if dir.exists() {
-            std::fs::remove_dir_all(&dir).map_err(|e| Error::io(&dir, e))?;
-        }
-        std::fs::create_dir(&dir).map_err(|e| Error::write(&dir, e))?;
-        Ok(Staging {
-            out: out.to_path_buf(),
-            dir,
-            files: Vec::new(),
-        })
-    }
-
-    /// Path of a staged file called `name`; it is moved on commit.
-    pub fn path(&mut self, name: &str) -> PathBuf {
-        if !self.files.iter().any(|f| f == name) {
-            self.files.push(name.to_string());
-        }
-        self.dir.join(name)
-    }
-
-    /// Names of the files staged so far, in staging order.
-    pub fn files(&self) -> &[String] {
-        &self.files
-    }
-
-    /// A buffered CSV writer for the staged file `name`.
-    pub fn csv(&mut self, name: &str) -> Result<CsvOut> {
-        let path = self.path(name);
-        let file = std::fs::File::create(&path).map_err(|e| Error::write(&path, e))?;
-        Ok(CsvOut {
-            path,
-            w: std::io::BufWriter::with_capacity(1 << 20, file),
-        })
-    }
-
-    /// Move every staged file into the output folder and remove the staging folder.
-    pub fn commit(self) -> Result<Vec<PathBuf>> {
-        let mut done = Vec::new();
-        for f in &self.files {
-            let from = self.dir.join(f);
-            let to = self.out.join(f);
-            std::fs::rename(&from, &to).map_err(|e| Error::write(&to, e))?;
-            done.push(to);
-        }
-        std::fs::remove_dir_all(&self.dir).map_err(|e| Error::write(&self.dir, e))?;
-        Ok(done)
-    }
-}
-
-impl Drop for Staging {
-    fn drop(&mut self) {
-        // After a commit the folder is gone; after a failure, clean up what was staged.
-        let _ = std::fs::remove_dir_all(&self.dir);
-    }
-}
-
-/// A CSV file being written; fields are quoted when needed.
-#[derive(Debug)]
-pub struct CsvOut {
-    path: PathBuf,
-    w: std::io::BufWriter<std::fs::File>,
-}
-
-impl CsvOut {
-    /// Write one row.
-    pub fn row<S: AsRef<str>>(&mut self, fields: &[S]) -> Result<()> {
-        let mut line = String::with_capacity(64);
-        for (i, f) in fields.iter().enumerate() {
-            if i > 0 {
-                line.push(',');
-            }
-            push_field(&mut line, f.as_ref());
-        }
-        line.push('\n');
-        self.raw(line.as_bytes())
-    }
-
-    /// Write bytes that are already CSV.
-    pub fn raw(&mut self, bytes: &[u8]) -> Result<()> {
-        self.w
-            .write_all(bytes)
-            .map_err(|e| Error::write(&self.path, e))
-    }
-
-    /// Flush to disk.
-    pub fn finish(mut self) -> Result<()> {
-        self.w.flush().map_err(|e| Error::write(&self.path, e))
-    }
+    })?;
+    staging::sync_dir(dir)
 }
 
 /// Append `value` to a CSV line, quoting it when it holds a comma, quote or newline.
@@ -193,33 +104,5 @@ mod tests {
         let mut s = String::new();
         push_field(&mut s, "plain");
         assert_eq!(s, "plain");
-    }
-
-    #[test]
-    fn staged_files_appear_only_on_commit() {
-        let dir = tempfile::tempdir().unwrap();
-        std::fs::write(dir.path().join("crosswalk.csv"), "old").unwrap();
-        {
-            let mut st = Staging::new(dir.path()).unwrap();
-            let mut w = st.csv("crosswalk.csv").unwrap();
-            w.row(&["new"]).unwrap();
-            w.finish().unwrap();
-            // Dropped without commit: a failed run.
-        }
-        assert_eq!(
-            std::fs::read_to_string(dir.path().join("crosswalk.csv")).unwrap(),
-            "old"
-        );
-        let mut st = Staging::new(dir.path()).unwrap();
-        let mut w = st.csv("crosswalk.csv").unwrap();
-        w.row(&["new"]).unwrap();
-        w.finish().unwrap();
-        st.commit().unwrap();
-        assert_eq!(
-            std::fs::read_to_string(dir.path().join("crosswalk.csv")).unwrap(),
-            "new\n"
-        );
-        let left: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
-        assert_eq!(left.len(), 1, "staging folder left behind");
     }
 }

@@ -236,9 +236,20 @@ pub fn threshold_for_target(
             best.precision
         )));
     };
+    if upper < decider.lower {
+        let show = |s: f64| format!("probability {:.6}", Decider::probability(s, 0.0));
+        return Err(Error::Usage(format!(
+            "--target-precision {target} puts the match threshold ({}) below the review \
+             threshold ({}) of [decide], so no pair would go to review; set `review_at` \
+             in the spec below {}, or leave out --target-precision",
+            show(upper),
+            show(decider.lower),
+            show(upper)
+        )));
+    }
     Ok(Decider {
         upper,
-        lower: decider.lower.min(upper),
+        lower: decider.lower,
     })
 }
 

@@ -211,15 +211,18 @@ fn write_truth(data: &Dataset, path: &Path) -> crate::Result<()> {
 }
 
 /// Write `data` into `dir` (created if missing): three source files, `truth.csv` and
-/// `spec.toml`. Existing files of the same names are replaced.
+/// `spec.toml`. The files are written into a fresh run folder and switched into place as
+/// a whole (see [`crate::output::staging`]): an earlier data set in `dir` is replaced
+/// completely or, if the write fails or is killed, not at all.
 pub fn write_dataset(data: &Dataset, dir: &Path) -> crate::Result<Summary> {
-    std::fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))?;
+    let mut staging = crate::output::Staging::of_kind(dir, "data")?;
+    staging.set_meta("command", "synth");
     let paths: Vec<PathBuf> = Source::ALL
         .iter()
-        .map(|s| dir.join(s.file_name()))
+        .map(|s| staging.path(s.file_name()))
         .collect();
-    let truth = dir.join("truth.csv");
-    let spec = dir.join("spec.toml");
+    let truth = staging.path("truth.csv");
+    let spec = staging.path("spec.toml");
     // The four data files are independent: write them side by side.
     let (sources, truth_result) = rayon::join(
         || -> crate::Result<()> {
@@ -238,9 +241,8 @@ pub fn write_dataset(data: &Dataset, dir: &Path) -> crate::Result<Summary> {
     sources?;
     truth_result?;
     std::fs::write(&spec, spec_toml()).map_err(|e| Error::write(&spec, e))?;
-    let mut files = paths;
-    files.push(truth);
-    files.push(spec);
+    crate::output::staging::crash_point("synth-written");
+    let files = staging.commit()?;
     Ok(Summary {
         dir: dir.to_path_buf(),
         records: Source::ALL
