@@ -18,6 +18,8 @@ fn files(dir: &std::path::Path) -> Vec<(String, Vec<u8>)> {
     let mut names: Vec<String> = std::fs::read_dir(dir)
         .unwrap()
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        // The folder's machinery and the run manifest (it holds the run id and time).
+        .filter(|n| !n.starts_with('.') && n != "current" && n != "manifest.json")
         .collect();
     names.sort();
     names
