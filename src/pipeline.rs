@@ -317,7 +317,8 @@ pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path, progress: bool) -> Res
     })
 }
 
-/// Check that `shards` are the complete output of one sharded run of this spec: each
+/// Check that `shards` are the complete output of one sharded run of this spec (or one
+/// whole run): each
 /// folder holds a complete shard run (its manifest), all of the same shard count, spec,
 /// model and thresholds, and every shard `1..=N` is given exactly once.
 pub fn check_shard_set(spec: &Spec, shards: &[PathBuf]) -> Result<()> {
@@ -327,6 +328,10 @@ pub fn check_shard_set(spec: &Spec, shards: &[PathBuf]) -> Result<()> {
     let want_spec = spec_shard_fingerprint(spec);
     for dir in shards {
         let m = Manifest::read_current(dir)?;
+        // A whole (unsharded) run is a complete set by itself.
+        if shards.len() == 1 && m.meta("shard").is_none() && m.meta("command") == Some("link") {
+            return Ok(());
+        }
         let Some((i, n)) = m.meta("shard").and_then(|s| {
             let (i, n) = s.split_once('/')?;
             let (i, n) = (i.parse::<usize>().ok()?, n.parse::<usize>().ok()?);

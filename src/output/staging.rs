@@ -276,15 +276,9 @@ impl Staging {
             }
         }
         let started = utc_timestamp();
-        let mut run_id = format!("{}-{}", started.replace([':', '-'], ""), std::process::id());
-        let mut n = 1;
+        let mut run_id = crate::summary::run_id();
         while runs.join(&run_id).exists() {
-            n += 1;
-            run_id = format!(
-                "{}-{}-{n}",
-                started.replace([':', '-'], ""),
-                std::process::id()
-            );
+            run_id = crate::summary::run_id();
         }
         let dir = runs.join(format!(".partial-{run_id}"));
         std::fs::create_dir(&dir).map_err(|e| Error::write(&dir, e))?;
