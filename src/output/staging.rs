@@ -173,7 +173,10 @@ impl FolderLock {
 #[cfg(unix)]
 fn try_lock(file: &File) -> std::io::Result<bool> {
     use std::os::unix::io::AsRawFd;
+    // The one unsafe call of the output folder: std's `File::try_lock` needs a newer Rust
+    // than the crate's minimum.
     // SAFETY: flock on a file descriptor this `File` owns and keeps open.
+    #[allow(unsafe_code)]
     let rc = unsafe { libc::flock(file.as_raw_fd(), libc::LOCK_EX | libc::LOCK_NB) };
     if rc == 0 {
         return Ok(true);
