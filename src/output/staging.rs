@@ -279,9 +279,9 @@ impl Staging {
             }
         }
         let started = utc_timestamp();
-        let mut run_id = crate::summary::run_id();
+        let mut run_id = new_run_id();
         while runs.join(&run_id).exists() {
-            run_id = crate::summary::run_id();
+            run_id = new_run_id();
         }
         let dir = runs.join(format!(".partial-{run_id}"));
         std::fs::create_dir(&dir).map_err(|e| Error::write(&dir, e))?;
@@ -550,6 +550,19 @@ pub fn sync_dir(dir: &Path) -> Result<()> {
     #[cfg(not(unix))]
     let _ = dir;
     Ok(())
+}
+
+/// A fresh run id: the UTC time and 24 random bits, `YYYYMMDDTHHMMSSZ-xxxxxx`.
+pub fn new_run_id() -> String {
+    let now = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .unwrap_or_default();
+    let salt = crate::util::mix64(now.as_nanos() as u64 ^ (u64::from(std::process::id()) << 32));
+    format!(
+        "{}-{:06x}",
+        utc_timestamp().replace(['-', ':'], ""),
+        salt >> 40
+    )
 }
 
 /// Now as `YYYY-MM-DDTHH:MM:SSZ` (UTC).
