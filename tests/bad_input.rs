@@ -148,3 +148,17 @@ fn unknown_flag_is_bad_input() {
     let o = run(&["link", "--spek", "x"], None);
     assert_eq!(o.status.code(), Some(2));
 }
+
+#[test]
+fn a_country_that_is_not_iso_3166_is_refused() {
+    let dir = mini_copy();
+    edit(
+        dir.path(),
+        "spec.toml",
+        "country = \"US\"",
+        "country = \"XX\"",
+    );
+    let (code, _, err) = link_in(dir.path());
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("`XX` is not an ISO 3166"), "{err}");
+}

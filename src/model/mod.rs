@@ -28,6 +28,7 @@ use crate::record::RecordTable;
 use crate::spec::Spec;
 use crate::util::Rng;
 
+pub mod check;
 pub mod em;
 pub mod train;
 
@@ -198,30 +199,15 @@ impl Model {
                 diffs.join("; ")
             )));
         }
-        for a in &model.attribute {
-            let n = a.levels.len();
-            if a.m.len() != n || a.u.len() != n || a.weight.len() != n {
-                return Err(bad(format!(
-                    "attribute `{}`: m, u and weight must have one value per level ({n})",
-                    a.attribute
-                )));
-            }
-            if a.weight.iter().any(|w| !w.is_finite()) {
-                return Err(bad(format!(
-                    "attribute `{}`: weights must be finite",
-                    a.attribute
-                )));
-            }
-        }
-        if !(model.lambda > 0.0 && model.lambda < 1.0) {
-            return Err(bad(format!(
-                "lambda = {} must be between 0 and 1",
-                model.lambda
-            )));
-        }
+        check::validate(&model, &spec.model_layout()).map_err(bad)?;
         Ok(model)
     }
 }
+
+/// How far a stored weight may be from log2(m/u) (the file keeps 17 significant digits).
+pub const MAX_WEIGHT_DIFF: f64 = 1e-6;
+/// How far a stored set of m (or u) values may sum from 1.
+pub const SUM_TOLERANCE: f64 = 1e-4;
 
 /// Per attribute parameters and weights from m and u tables.
 pub fn attr_models(

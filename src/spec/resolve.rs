@@ -296,15 +296,20 @@ impl Resolver {
         let id_column = self.req_string(&s.id, at, "id")?.to_string();
         let country = match self.string(&s.country, at, "country")? {
             None => None,
-            Some(c) => Some(default_country(c).ok_or_else(|| {
-                self.err(
-                    join(at, "country"),
-                    format!(
-                        "`{}` is not an ISO 3166 two-letter code such as US, GB, DE",
-                        c.trim().to_ascii_uppercase()
-                    ),
-                )
-            })?),
+            // Two letters are not enough: the code must name a country (ISO 3166-1).
+            Some(c) => Some(
+                default_country(c)
+                    .filter(|d| crate::standardize::country::country_code(d) == Some(d.as_str()))
+                    .ok_or_else(|| {
+                        self.err(
+                            join(at, "country"),
+                            format!(
+                                "`{}` is not an ISO 3166 two-letter code such as US, GB, DE",
+                                c.trim().to_ascii_uppercase()
+                            ),
+                        )
+                    })?,
+            ),
         };
         let date_order = match self.string(&s.date_order, at, "date_order")? {
             None => DateOrder::default(),
