@@ -204,7 +204,9 @@ pub fn render(e: &Explanation, have_crosswalk: bool) -> String {
         let _ = writeln!(o, "{:<14} {:<22} {:>9}  {}", "", "", "", side(1));
     }
     let fit_used = match &e.fit {
-        Some(k) => format!("the own fit of blocking key `{k}`"),
+        Some(k) => format!(
+            "the model of blocking key `{k}` (its prior; the attributes it is built from add 0)"
+        ),
         None => "the combined model".to_string(),
     };
     let _ = writeln!(

@@ -51,32 +51,55 @@ pub fn print(s: &RunSummary, timings: bool) {
     );
     println!("\nModel");
     if s.fitted {
+        let f = &s.model.fit;
         println!(
-            "  fitted by EM: match prior λ = {:.3e} over all pairs ({:.1} expected matches among \
-             candidates), {} EM iterations over {} key(s)",
+            "  fitted without labels: match prior λ = {:.4} among candidate pairs ({:.1} \
+             expected matches), {} latent classes, {} EM iterations",
             s.model.lambda,
             s.model.expected_matches,
+            f.classes.len(),
             s.model.iterations(),
-            s.model.block.len()
         );
-        for b in &s.model.block {
-            let excluded = if b.excluded.is_empty() {
-                String::new()
-            } else {
-                format!(", without {}", b.excluded.join(", "))
-            };
+        for c in &f.choices {
             println!(
-                "    {:<20} λ = {:.4}  iterations {:>3}  scored with {}{}{}",
-                b.name,
-                b.lambda,
-                b.iterations,
-                if b.local {
-                    "its own fit"
+                "    {} classes: BIC {:.1}{}",
+                c.classes,
+                c.bic,
+                if !c.separated {
+                    " (classes not separated)"
+                } else if c.classes == f.classes.len() {
+                    " (chosen)"
                 } else {
-                    "the combined model"
+                    ""
+                }
+            );
+        }
+        println!(
+            "  same-person classes decided by disagreement on {}",
+            if f.identifying.is_empty() {
+                "all attributes".to_string()
+            } else {
+                f.identifying.join(", then ")
+            }
+        );
+        for (i, c) in f.classes.iter().enumerate() {
+            let dis: Vec<String> = s
+                .model
+                .attribute
+                .iter()
+                .zip(&c.disagree)
+                .map(|(a, d)| format!("{} {:.2}", a.attribute, d))
+                .collect();
+            println!(
+                "    class {}: share {:.4}, {}; P(disagree): {}",
+                i + 1,
+                c.share,
+                if c.same_person {
+                    "same person"
+                } else {
+                    "not the same person"
                 },
-                if b.converged { "" } else { " (not converged)" },
-                excluded
+                dis.join(", ")
             );
         }
     } else {

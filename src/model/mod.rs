@@ -1,21 +1,40 @@
-//! Model: comparison vectors in, Fellegi–Sunter parameters (λ, m, u) and weights out.
+//! Model: comparison vectors of the candidate pairs in, Fellegi–Sunter parameters
+//! (λ, m, u) and weights out.
 //!
-//! Fitting, with no labelled data:
-//! 1. **u** from random record pairs ([`estimate_u`]): almost all random pairs are
-//!    non-matches, so the share of each agreement level among them estimates u.
-//!    Laplace smoothing (one pseudo-count per level) keeps unseen levels above zero.
-//! 2. **m and λ** by EM ([`em`]) on the counts of distinct comparison vectors, once per
-//!    blocking key on the pairs that key produced. An attribute that is part of a key
-//!    always agrees on that key's pairs, so it is left out of that key's fit (its m
-//!    there would be biased towards 1). Each attribute's m is the average of its
-//!    per-key estimates weighted by the expected number of matches of the key
-//!    (λ_b × pairs_b); this follows the blocking-bias treatment of docs/methods.md §2.
-//!    An attribute used by every key falls back to a fit on all candidate pairs.
-//! 3. **λ over all record pairs** = expected matches Σ λ_b pairs_b / (n(n−1)/2), the
-//!    prior that goes with u from random pairs.
+//! **One model for every candidate pair.** Candidate pairs are not random pairs: they
+//! share a blocking key, and besides the same person twice they hold members of one
+//! household (shared family name, address, phone, mailbox), namesakes and chance
+//! agreements. A two-class fit on them finds the strongest split, which is often
+//! "same household or place" rather than "same person" (Winkler 1993). So the fit has
+//! two steps:
 //!
-//! The weight of level `l` of attribute `k` is `log2(m_kl / u_kl)`; a missing value
-//! adds 0. The fitted [`Model`] is written as a readable TOML file tied to the spec by a
+//! 1. **Latent classes** ([`em::fit_classes`]): a latent class model with K classes and
+//!    conditionally independent attributes, fitted by EM on the counts of distinct
+//!    comparison vectors of all candidate pairs, for K = 2 ..= [`MAX_CLASSES`], each
+//!    from several random starts (the best likelihood kept). An attribute that a pair's
+//!    blocking key is built from always agrees on that key's pairs, so it is treated as
+//!    missing for those pairs in this step (the blocking-bias treatment of Jaro 1989,
+//!    without a separate fit per key). Each class is then named "same person" or not by
+//!    a label-free rule on its *identifying attributes* ([`identifying_attributes`]):
+//!    a class is the same person when it rarely disagrees on them. K is the number of
+//!    classes with the lowest BIC (Schwarz 1978) among the fits whose classes separate
+//!    (at least one same-person class and one other); when no K separates, the fit
+//!    fails with an error instead of scoring with a degenerate model.
+//! 2. **Scoring model** ([`project`]): a two-class Fellegi–Sunter model on the same
+//!    candidate pairs with each pair's posterior probability of the same-person classes
+//!    as its (soft) label: m = level shares among the expected matches, u = level shares
+//!    among the expected non-matches, λ = expected matches / candidate pairs. Its
+//!    weights are fitted under the declared level order ([`em::ordered_rows`]): a better
+//!    level never weighs less than a worse one, and a missing value adds 0. Each
+//!    attribute is counted on the pairs whose key does not force it, and a pair is
+//!    scored with the prior of the key that found it, the key's own attributes adding 0
+//!    ([`key_models`]). The oracle fit ([`train::train_oracle`]) is the same step with
+//!    the true labels.
+//!
+//! A pair's evidence is the sum of its per-attribute weights log2(m/u) (plus the
+//! value-frequency adjustment of [`Scorer`]), its probability is
+//! 1 / (1 + 2^-(evidence + prior)) with prior = log2(λ / (1 − λ)): one prior, one sum.
+//! The fitted [`Model`] is written as a readable TOML file tied to the spec by a
 //! fingerprint of the compared attributes and levels.
 
 use std::path::Path;
@@ -26,32 +45,36 @@ use crate::compare::{Comparison, Gamma, MISSING_LEVEL};
 use crate::error::{Error, Result};
 use crate::record::RecordTable;
 use crate::spec::Spec;
-use crate::util::Rng;
 
 pub mod check;
 pub mod em;
 pub mod train;
 
-/// Version of the model file format written by this build.
-pub const MODEL_VERSION: u32 = 1;
+/// Version of the model file format written by this build (2: one model over the
+/// candidate pairs, λ among candidate pairs; version 1 files held per-key fits and λ
+/// over all record pairs).
+pub const MODEL_VERSION: u32 = 2;
 
 /// Pseudo-count per level for the u estimate from random pairs.
 pub const U_PSEUDO_COUNT: f64 = 1.0;
 
-/// Pseudo-count per level for the EM estimates of m (a Dirichlet(1 + s) prior).
+/// Pseudo-count per level for the m and u estimates (a Dirichlet(1 + s) prior), in the
+/// latent class fit, the scoring model and the oracle fit alike.
 pub const M_SMOOTHING: f64 = 0.5;
 
-/// A key's own fit is rejected when the best level of an attribute gets a weight below
-/// minus this many bits (agreement counting against a match).
-pub const LOCAL_MIN_TOP_WEIGHT: f64 = 1.0;
+/// Largest number of latent classes tried.
+pub const MAX_CLASSES: usize = 6;
 
-/// Strength (in pseudo-pairs) of the priors that keep a key's own fit near the combined
-/// model (m) and the random pairs (u).
-pub const PRIOR_PAIRS: f64 = 200.0;
+/// Random starts per number of classes.
+pub const CLASS_STARTS: usize = 4;
 
-/// Fewest candidate pairs a blocking key needs for its pairs to be scored with its own
-/// fit; keys with fewer pairs use the combined model.
-pub const MIN_LOCAL_PAIRS: u64 = 200;
+/// A class is "same person" when it disagrees on its identifying attribute in less than
+/// this share of its pairs.
+pub const SAME_PERSON_MAX_DISAGREE: f64 = 0.5;
+
+/// An identifying attribute speaks for a class only when it is observed in at least this
+/// share of the class's pairs (else the next one is used).
+pub const MIN_OBSERVED_SHARE: f64 = 0.2;
 
 /// Parameters of one compared attribute.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -71,35 +94,68 @@ pub struct AttrModel {
     pub frequency: bool,
 }
 
-/// What the EM fit on one blocking key's pairs found.
+/// The scoring model of the pairs one blocking key produces first: the same kind of
+/// model as the pooled one (ordered m and u among the key's candidate pairs, λ among
+/// them), estimated on the key's pairs with the pooled model as a prior worth
+/// [`PRIOR_PAIRS`] pairs.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct BlockFit {
+pub struct KeyModel {
     /// Blocking key name.
     pub name: String,
-    /// Candidate pairs the key produced (after earlier keys).
+    /// Candidate pairs the key produced first.
     pub pairs: u64,
-    /// Distinct comparison vectors among them.
-    pub patterns: u64,
-    /// Share of matches among the key's pairs.
+    /// Share of matches among them.
     pub lambda: f64,
-    /// Attributes left out of this fit because the key is built from them.
-    pub excluded: Vec<String>,
-    /// EM iterations.
-    pub iterations: usize,
-    /// Whether EM met its tolerance.
-    pub converged: bool,
-    /// Objective after each iteration.
-    pub loglik_trace: Vec<f64>,
-    /// True when this key's pairs are scored with this key's own fit (`m`, `u`, `lambda`);
-    /// false when they use the combined model.
-    #[serde(default)]
-    pub local: bool,
-    /// m per attribute and level on this key's pairs (empty for excluded attributes).
-    #[serde(default)]
+    /// Per attribute (spec order): P(level | match).
     pub m: Vec<Vec<f64>>,
-    /// u per attribute and level among this key's non-matches (empty for excluded ones).
-    #[serde(default)]
+    /// Per attribute: P(level | non-match).
     pub u: Vec<Vec<f64>>,
+    /// Per attribute: log2(m / u).
+    pub weight: Vec<Vec<f64>>,
+}
+
+/// Strength (in pseudo-pairs) of the pooled model as a prior for each key's model.
+pub const PRIOR_PAIRS: f64 = 200.0;
+
+/// One latent class of the fit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LatentClass {
+    /// Share of the candidate pairs in this class.
+    pub share: f64,
+    /// True when the class is taken as "same person".
+    pub same_person: bool,
+    /// Per compared attribute (spec order): P(disagree | class).
+    pub disagree: Vec<f64>,
+}
+
+/// One number of classes tried.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ClassChoice {
+    /// Number of latent classes.
+    pub classes: usize,
+    /// Log-likelihood (natural log) of the best start.
+    pub loglik: f64,
+    /// Bayesian information criterion (lower is better).
+    pub bic: f64,
+    /// True when the classes separate same-person pairs from others.
+    pub separated: bool,
+}
+
+/// How the model was fitted.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+pub struct FitReport {
+    /// `latent classes` (no labels) or `true labels` (the oracle fit).
+    pub method: String,
+    /// Attributes whose agreement names the same-person classes.
+    pub identifying: Vec<String>,
+    /// The chosen fit's classes (empty for the oracle fit).
+    pub classes: Vec<LatentClass>,
+    /// Every number of classes tried.
+    pub choices: Vec<ClassChoice>,
+    /// EM iterations of the chosen fit.
+    pub iterations: usize,
+    /// Penalised log-likelihood after each iteration of the chosen fit.
+    pub loglik_trace: Vec<f64>,
 }
 
 /// A fitted model.
@@ -113,7 +169,7 @@ pub struct Model {
     pub spec_fingerprint: String,
     /// The compared attributes and levels, as text (to name differences).
     pub spec_layout: String,
-    /// Match prior over all record pairs.
+    /// Match prior: share of matches among the candidate pairs.
     pub lambda: f64,
     /// Records the model was fitted on.
     pub records: u64,
@@ -121,12 +177,14 @@ pub struct Model {
     pub candidate_pairs: u64,
     /// Expected true matches among the candidate pairs.
     pub expected_matches: f64,
-    /// Random record pairs used for u.
-    pub u_sample_pairs: u64,
     /// Per attribute parameters, in spec order.
     pub attribute: Vec<AttrModel>,
-    /// Per blocking key fits.
-    pub block: Vec<BlockFit>,
+    /// Per blocking key: the scoring model of the pairs the key produces.
+    #[serde(default)]
+    pub keys: Vec<KeyModel>,
+    /// How the model was fitted.
+    #[serde(default)]
+    pub fit: FitReport,
     /// Things a person should look at (e.g. an agreement level that counts against a match).
     #[serde(default)]
     pub warnings: Vec<String>,
@@ -138,9 +196,9 @@ impl Model {
         self.attribute.iter().map(|a| a.weight.clone()).collect()
     }
 
-    /// Total EM iterations over all keys.
+    /// EM iterations of the chosen fit.
     pub fn iterations(&self) -> usize {
-        self.block.iter().map(|b| b.iterations).sum()
+        self.fit.iterations
     }
 
     /// Write the model as TOML to `path` (atomically: temp file, then rename).
@@ -149,7 +207,7 @@ impl Model {
             .map_err(|e| Error::Internal(format!("cannot serialize the model: {e}")))?;
         let header =
             "# samekey fitted model: Fellegi–Sunter m/u per attribute level and the match\n\
-                      # prior. Weights are log2(m/u); a missing value adds 0.\n";
+                      # prior among candidate pairs. Weights are log2(m/u); a missing value adds 0.\n";
         crate::output::write_atomic(path, format!("{header}{text}").as_bytes())
     }
 
@@ -170,11 +228,31 @@ impl Model {
                 model.format
             )));
         }
-        if model.version != MODEL_VERSION {
-            return Err(bad(format!(
-                "version {} is not supported; this build reads version {MODEL_VERSION}",
-                model.version
-            )));
+        let mut model = model;
+        match model.version {
+            MODEL_VERSION => {}
+            1 => {
+                // Version 1 stored λ over all record pairs; scoring now uses the prior
+                // among candidate pairs, which version 1 files record as expected
+                // matches / candidate pairs. Their per-key fits are no longer used.
+                if model.candidate_pairs == 0 {
+                    return Err(bad(
+                        "a version 1 model without candidate pairs cannot be read; fit a new \
+                         model with `samekey train`"
+                            .into(),
+                    ));
+                }
+                model.lambda =
+                    (model.expected_matches / model.candidate_pairs as f64).clamp(1e-9, 1.0 - 1e-9);
+                model.fit.method = "version 1 file".into();
+                model.version = MODEL_VERSION;
+            }
+            v => {
+                return Err(bad(format!(
+                    "version {v} is not supported; this build reads versions 1 and \
+                     {MODEL_VERSION}"
+                )));
+            }
         }
         if model.spec_fingerprint != spec.model_fingerprint() {
             let theirs: Vec<&str> = model.spec_layout.lines().collect();
@@ -253,6 +331,15 @@ pub fn level_warnings(attrs: &[AttrModel]) -> Vec<String> {
         };
         let weight = |l: usize| (a.m[l] / a.u[l]).log2();
         let disagree = weight(last);
+        if last > 0 && (0..last).all(|l| (weight(l) - disagree).abs() < 1e-9) {
+            out.push(format!(
+                "`{}`: every level weighs the same ({disagree:.2} bits): among the candidate \
+                 pairs, agreeing on it is no more common for the same person than for others \
+                 (for example members of one household), so it does not move decisions",
+                a.attribute
+            ));
+            continue;
+        }
         for (l, name) in a.levels.iter().enumerate().take(last) {
             if l == 0 && a.m[l] < a.u[l] {
                 out.push(format!(
@@ -260,10 +347,10 @@ pub fn level_warnings(attrs: &[AttrModel]) -> Vec<String> {
                      counts against a match; consider a stricter level or more data",
                     a.attribute, a.m[l], a.u[l]
                 ));
-            } else if weight(l) <= disagree {
+            } else if weight(l) < disagree - 1e-9 {
                 out.push(format!(
-                    "`{}` level `{name}`: its weight {:.2} bits is not above the weight of \
-                     `disagree` ({disagree:.2} bits), so agreeing at this level counts no more \
+                    "`{}` level `{name}`: its weight {:.2} bits is below the weight of \
+                     `disagree` ({disagree:.2} bits), so agreeing at this level counts less \
                      for a match than disagreeing; consider removing the level, a stricter one \
                      or more data",
                     a.attribute,
@@ -286,43 +373,32 @@ struct FreqAdjust<'a> {
     adjust: Vec<f64>,
 }
 
-/// One blocking key's own model: weights (rows of excluded attributes are zero) and prior.
-#[derive(Debug, Clone)]
-struct KeyModel {
-    weights: Vec<Vec<f64>>,
-    prior: f64,
-}
-
-/// Computes match weights and priors for scoring pairs.
+/// Computes evidence and probabilities for scoring pairs with one model.
 ///
-/// **Which model scores a pair.** Pairs produced by blocking key `b` agree on `b`'s
-/// attributes and disagree on every earlier key, and among them non-matches are not like
-/// random pairs: two records sharing a family name and a postcode are often members of
-/// one household, who also share the street, the city and sometimes the phone. Weights
-/// with u from random pairs count such agreements as strong, independent evidence and
-/// merge households. So when key `b`'s own EM fit is usable ([`BlockFit::local`]) its
-/// pairs are scored with that fit — m, u and λ estimated on exactly the pairs it scores,
-/// leaving out the key's own attributes — which is the Fellegi–Sunter posterior
-/// conditional on how the pair was found. Other pairs use the combined model (m combined
-/// over keys, u from random pairs, λ over all pairs).
+/// A pair's evidence is Σ_k [`contribution`](Self::contribution) over the compared
+/// attributes; its probability is `1 / (1 + 2^-(evidence + prior))`.
 ///
-/// **Value frequencies.** Agreement on value `v` is `m_exact · p_v` likely among matches
-/// and `p_v²` among non-matches (`p_v` = share of records with `v`), so its weight is
-/// `log2(m_exact / p_v)` instead of the average `log2(m_exact / u_exact)`: the adjustment
-/// is `log2(u_exact / p_v)` (u from random pairs), clamped to ±[`FREQ_MAX_ADJUST`] bits so
-/// that a value seen once or a dominant value cannot decide a pair alone (Winkler 1989;
-/// docs/methods.md §3).
+/// **Value frequencies.** Agreement on value `v` is about `m_exact · p_v` likely among
+/// matches and `p_v²` among unrelated pairs (`p_v` = share of records with `v`), against
+/// `Σ_w p_w²` for agreement on any value; so agreeing on `v` adds
+/// `log2(Σ_w p_w² / p_v)` bits to the average exact weight: rare values gain, common
+/// ones lose (Winkler 1989; Newcombe et al. 1959). The adjustment is clamped to
+/// ±[`FREQ_MAX_ADJUST`] bits so that a value seen once or a dominant value cannot decide
+/// a pair alone, and it never takes the exact weight below the next level's weight
+/// (the level order holds for every value).
 #[derive(Debug, Clone)]
 pub struct Scorer<'a> {
-    weights: Vec<Vec<f64>>,
-    prior: f64,
-    keys: Vec<Option<KeyModel>>,
+    /// The pooled table, then one per blocking key (by the spec's key order).
+    tables: Vec<(Vec<Vec<f64>>, f64)>,
+    /// Index into `tables` per spec blocking key.
+    key_table: Vec<usize>,
     freq: Vec<Option<FreqAdjust<'a>>>,
 }
 
 impl<'a> Scorer<'a> {
-    /// Prepare scoring of `table`'s pairs; `keys` are the spec's blocking keys, matched to
-    /// the model's per-key fits by name.
+    /// Prepare scoring of `table`'s pairs with `model`; `keys` are the spec's blocking
+    /// keys, matched to the model's key models by name (a key without one uses the
+    /// pooled model).
     pub fn new(
         model: &Model,
         comparison: &Comparison,
@@ -344,15 +420,18 @@ impl<'a> Scorer<'a> {
                     as u8;
                 let col = table.column(c.attr);
                 let present = col.present().max(1) as f64;
-                let u_exact = a.u[exact as usize];
+                let sum_p2: f64 = col
+                    .counts
+                    .iter()
+                    .map(|&n| (n as f64 / present).powi(2))
+                    .sum::<f64>()
+                    .max(f64::MIN_POSITIVE);
                 let adjust = col
                     .counts
                     .iter()
                     .map(|&n| {
                         let p = (n.max(1) as f64) / present;
-                        (u_exact / p)
-                            .log2()
-                            .clamp(-FREQ_MAX_ADJUST, FREQ_MAX_ADJUST)
+                        (sum_p2 / p).log2().clamp(-FREQ_MAX_ADJUST, FREQ_MAX_ADJUST)
                     })
                     .collect();
                 Some(FreqAdjust {
@@ -363,58 +442,51 @@ impl<'a> Scorer<'a> {
             })
             .collect();
         let n_levels: Vec<usize> = model.attribute.iter().map(|a| a.levels.len()).collect();
-        let key_models = keys
+        let mut tables = vec![(
+            model.weights(),
+            crate::decide::prior_log2_odds(model.lambda),
+        )];
+        let key_table = keys
             .iter()
             .map(|spec| {
-                let fit = model
-                    .block
-                    .iter()
-                    .find(|b| b.name == spec.name && b.local)?;
-                if fit.m.len() != n_levels.len() || fit.u.len() != n_levels.len() {
-                    return None;
+                let Some(km) = model.keys.iter().find(|k| k.name == spec.name) else {
+                    return 0;
+                };
+                let fits = km.weight.len() == n_levels.len()
+                    && km.weight.iter().zip(&n_levels).all(|(w, &l)| w.len() == l);
+                if !(fits && km.lambda > 0.0 && km.lambda < 1.0) {
+                    return 0;
                 }
-                let weights = (0..n_levels.len())
-                    .map(|k| {
-                        let (m, u) = (&fit.m[k], &fit.u[k]);
-                        if m.len() == n_levels[k] && u.len() == n_levels[k] {
-                            m.iter()
-                                .zip(u)
-                                .map(|(m, u)| (m.max(1e-12) / u.max(1e-12)).log2())
-                                .collect()
-                        } else {
-                            vec![0.0; n_levels[k]]
-                        }
-                    })
-                    .collect();
-                Some(KeyModel {
-                    weights,
-                    prior: crate::decide::prior_log2_odds(fit.lambda),
-                })
+                tables.push((km.weight.clone(), crate::decide::prior_log2_odds(km.lambda)));
+                tables.len() - 1
             })
             .collect();
         Scorer {
-            weights: model.weights(),
-            prior: crate::decide::prior_log2_odds(model.lambda),
-            keys: key_models,
+            tables,
+            key_table,
             freq,
         }
     }
 
-    fn table(&self, key: Option<usize>) -> (&[Vec<f64>], f64) {
-        match key.and_then(|k| self.keys.get(k)).and_then(|m| m.as_ref()) {
-            Some(m) => (&m.weights, m.prior),
-            None => (&self.weights, self.prior),
-        }
+    fn table(&self, key: Option<usize>) -> &(Vec<Vec<f64>>, f64) {
+        let t = key
+            .and_then(|k| self.key_table.get(k))
+            .copied()
+            .unwrap_or(0);
+        &self.tables[t]
     }
 
-    /// log2 prior odds of a match for pairs of blocking key `key` (`None`: any pair).
+    /// log2 prior odds of a match for pairs of blocking key `key` (`None`: the pooled
+    /// prior among all candidate pairs).
     #[inline]
     pub fn prior(&self, key: Option<usize>) -> f64 {
         self.table(key).1
     }
 
-    /// Weight added by attribute `k` at level `code` for a pair of blocking key `key`
-    /// whose first record is `a`.
+    /// Evidence (bits) added by attribute `k` at level `code` for a pair of blocking key
+    /// `key` whose first record is `a`; 0 for a missing value. The value-frequency
+    /// adjustment never takes the exact level below the next level's weight, so the
+    /// level order holds for every value.
     #[inline]
     pub fn contribution(&self, key: Option<usize>, k: usize, code: u8, a: u32) -> f64 {
         if code == MISSING_LEVEL {
@@ -423,14 +495,17 @@ impl<'a> Scorer<'a> {
         let row = &self.table(key).0[k];
         let mut w = row[code as usize];
         if let Some(f) = &self.freq[k] {
-            if code == f.exact && w != 0.0 {
+            if code == f.exact {
                 w += f.adjust[f.ids[a as usize] as usize];
+                if let Some(&next) = row.get(code as usize + 1) {
+                    w = w.max(next);
+                }
             }
         }
         w
     }
 
-    /// Weight of attribute `k` at level `code` without value-frequency adjustment.
+    /// Evidence of attribute `k` at level `code` without value-frequency adjustment.
     #[inline]
     pub fn contribution_plain(&self, key: Option<usize>, k: usize, code: u8) -> f64 {
         if code == MISSING_LEVEL {
@@ -440,11 +515,11 @@ impl<'a> Scorer<'a> {
         }
     }
 
-    /// Match weight of a pair of blocking key `key` with comparison vector `gamma` and
-    /// first record `a`.
+    /// Evidence of a pair of blocking key `key` with comparison vector `gamma` and
+    /// first record `a`: the sum of its per-attribute contributions.
     #[inline]
     pub fn weight(&self, key: Option<usize>, gamma: &Gamma, a: u32) -> f64 {
-        (0..self.weights.len())
+        (0..self.tables[0].0.len())
             .map(|k| self.contribution(key, k, gamma[k], a))
             .sum()
     }
@@ -469,166 +544,6 @@ pub fn add_level_counts(into: &mut [Vec<u64>], from: &[Vec<u64>]) {
     }
 }
 
-/// Level counts among random record pairs: `[attribute][level]`, and pairs drawn.
-pub fn estimate_u(
-    table: &RecordTable,
-    comparison: &Comparison,
-    sample: usize,
-    seed: u64,
-) -> (Vec<Vec<f64>>, u64) {
-    use rayon::prelude::*;
-    let n = table.len() as u64;
-    let all = n * n.saturating_sub(1) / 2;
-    let n_levels = comparison.n_levels();
-    let empty = || n_levels.iter().map(|&l| vec![0u64; l]).collect::<Vec<_>>();
-    let (counts, drawn) = if all <= sample as u64 {
-        // Small data: every pair.
-        let mut counts = empty();
-        let mut scratch = comparison.scratch();
-        for a in 0..n as u32 {
-            for b in a + 1..n as u32 {
-                count_levels(&mut counts, &comparison.gamma(table, a, b, &mut scratch));
-            }
-        }
-        (counts, all)
-    } else {
-        const CHUNK: usize = 8192;
-        let chunks = sample.div_ceil(CHUNK);
-        let parts: Vec<Vec<Vec<u64>>> = (0..chunks)
-            .into_par_iter()
-            .map(|c| {
-                let mut rng = Rng::new(seed ^ (c as u64).wrapping_mul(0x9E37_79B9_7F4A_7C15));
-                let mut counts = empty();
-                let mut scratch = comparison.scratch();
-                let todo = CHUNK.min(sample - c * CHUNK);
-                for _ in 0..todo {
-                    let a = rng.below(n) as u32;
-                    let mut b = rng.below(n - 1) as u32;
-                    if b >= a {
-                        b += 1;
-                    }
-                    count_levels(&mut counts, &comparison.gamma(table, a, b, &mut scratch));
-                }
-                counts
-            })
-            .collect();
-        let mut counts = empty();
-        for p in parts {
-            add_level_counts(&mut counts, &p);
-        }
-        (counts, sample as u64)
-    };
-    let u = counts
-        .iter()
-        .map(|row| {
-            let total: u64 = row.iter().sum();
-            let denom = total as f64 + U_PSEUDO_COUNT * row.len() as f64;
-            row.iter()
-                .map(|&c| (c as f64 + U_PSEUDO_COUNT) / denom)
-                .collect()
-        })
-        .collect();
-    (u, drawn)
-}
-
-/// EM for λ, u and some of m on the pairs a key scores, started at the combined model
-/// and regularized towards it (Dirichlet priors centred on the combined m and on the
-/// random-pair u, each worth [`PRIOR_PAIRS`] pseudo-pairs). u is free: the key learns
-/// what its non-matches share (households share an address and often a phone). m is
-/// held at the combined estimate except for the attributes of earlier keys (`free_m`):
-/// the key's matches were selected by failing those keys, so there they differ from
-/// matches in general. Holding the rest of m keeps the match class on identity. `None`
-/// when there is nothing to fit.
-fn conditional_fit(
-    counts: &em::PatternCounts,
-    m: &[Vec<f64>],
-    u_random: &[Vec<f64>],
-    lambda0: f64,
-    free_m: &[bool],
-    opts: &em::EmOptions,
-) -> Option<ConditionalFit> {
-    let patterns: Vec<(Vec<u8>, f64)> = counts.iter().map(|(c, n)| (c, n as f64)).collect();
-    let total: f64 = patterns.iter().map(|p| p.1).sum();
-    if total <= 0.0 {
-        return None;
-    }
-    let active = opts.active.clone().unwrap_or_else(|| vec![true; m.len()]);
-    let m_prior = m;
-    let mut m = m.to_vec();
-    let mut lambda = lambda0.clamp(0.05, 0.95);
-    let mut u = u_random.to_vec();
-    let mut trace = Vec::new();
-    let mut iterations = 0;
-    for _ in 0..opts.max_iterations.max(1) {
-        iterations += 1;
-        let ln = |t: &[Vec<f64>]| -> Vec<Vec<f64>> {
-            t.iter()
-                .map(|r| r.iter().map(|x| x.max(1e-12).ln()).collect())
-                .collect()
-        };
-        let (ln_m, ln_u) = (ln(&m), ln(&u));
-        let mut su: Vec<Vec<f64>> = u.iter().map(|r| vec![0.0; r.len()]).collect();
-        let mut sm_levels: Vec<Vec<f64>> = m.iter().map(|r| vec![0.0; r.len()]).collect();
-        let (mut sm, mut ll) = (0.0, 0.0);
-        for (codes, n) in &patterns {
-            let (mut lm, mut lu) = (lambda.ln(), (1.0 - lambda).ln());
-            for (k, &c) in codes.iter().enumerate() {
-                if active[k] && c != MISSING_LEVEL {
-                    lm += ln_m[k][c as usize];
-                    lu += ln_u[k][c as usize];
-                }
-            }
-            let hi = lm.max(lu);
-            let norm = hi + ((lm - hi).exp() + (lu - hi).exp()).ln();
-            ll += n * norm;
-            let p = (lm - norm).exp();
-            sm += n * p;
-            for (k, &c) in codes.iter().enumerate() {
-                if active[k] && c != MISSING_LEVEL {
-                    su[k][c as usize] += n * (1.0 - p);
-                    sm_levels[k][c as usize] += n * p;
-                }
-            }
-        }
-        trace.push(ll);
-        let new_lambda = (sm / total).clamp(1e-9, 1.0 - 1e-9);
-        let mut change = (new_lambda - lambda).abs();
-        for k in (0..su.len()).filter(|&k| active[k]) {
-            let (seen_u, seen_m): (f64, f64) = (su[k].iter().sum(), sm_levels[k].iter().sum());
-            for l in 0..su[k].len() {
-                let v = (su[k][l] + PRIOR_PAIRS * u_random[k][l]) / (seen_u + PRIOR_PAIRS);
-                let w = (sm_levels[k][l] + PRIOR_PAIRS * m_prior[k][l]) / (seen_m + PRIOR_PAIRS);
-                change = change.max((v - u[k][l]).abs());
-                u[k][l] = v;
-                if free_m[k] {
-                    change = change.max((w - m[k][l]).abs());
-                    m[k][l] = w;
-                }
-            }
-        }
-        lambda = new_lambda;
-        if change < 1e-7 {
-            break;
-        }
-    }
-    Some(ConditionalFit {
-        lambda,
-        m,
-        u,
-        iterations,
-        trace,
-    })
-}
-
-/// Result of [`conditional_fit`].
-struct ConditionalFit {
-    lambda: f64,
-    m: Vec<Vec<f64>>,
-    u: Vec<Vec<f64>>,
-    iterations: usize,
-    trace: Vec<f64>,
-}
-
 /// Inputs of [`fit`] for one blocking key.
 #[derive(Debug)]
 pub struct KeyCounts {
@@ -639,110 +554,191 @@ pub struct KeyCounts {
     /// Comparison vector counts of the pairs this key produces first (the pairs it
     /// scores).
     pub counts: em::PatternCounts,
-    /// Comparison vector counts of all pairs inside this key's blocks, including pairs
-    /// an earlier key produced: the population for estimating m without selection by
-    /// the earlier keys.
-    pub all_counts: em::PatternCounts,
     /// Pairs each counted pair stands for (1 unless the counts are a sample of tasks).
     pub scale: f64,
 }
 
-/// Fit the model from per-key comparison vector counts and random-pair u.
-///
-/// Stage 1 estimates m per key on all pairs inside the key's blocks, leaving out the
-/// key's own attributes (which always agree there), and combines the estimates weighted
-/// by each key's expected matches. Stage 2 holds m at the combined estimate and fits λ
-/// and u on the pairs each key produces first (the pairs it scores): that gives the
-/// expected matches (hence λ over all pairs) and the per-key scoring fits.
+/// The attributes whose agreement names a latent class "same person", in order of
+/// preference: the spec's `[cluster] unique` attributes that are compared (the user
+/// declares that a person has one value), then `birth_date` (a person has one date of
+/// birth), then `given_name` (household members share the family name, the address,
+/// the phone and often the mailbox, but not the given name). Attributes that are not
+/// compared are skipped. Empty when none is compared: then every attribute counts.
+pub fn identifying_attributes(spec: &Spec, comparison: &Comparison) -> Vec<usize> {
+    use crate::record::Attr;
+    let mut wanted: Vec<Attr> = spec.cluster.unique.clone();
+    wanted.extend([Attr::BirthDate, Attr::GivenName]);
+    let mut out = Vec::new();
+    for a in wanted {
+        if let Some(k) = comparison.comparators.iter().position(|c| c.attr == a) {
+            if !out.contains(&k) {
+                out.push(k);
+            }
+        }
+    }
+    out
+}
+
+/// Which classes are "same person" (label-free): for each class, the first identifying
+/// attribute observed in at least [`MIN_OBSERVED_SHARE`] of the class's pairs decides:
+/// same person when P(disagree | class) < [`SAME_PERSON_MAX_DISAGREE`]. A class in which
+/// no identifying attribute is observed that often (or a spec without any) is decided by
+/// the mean P(disagree) over all attributes observed that often.
+fn same_person_classes(
+    params: &em::ClassParams,
+    observed: &[Vec<f64>],
+    identifying: &[usize],
+) -> Vec<bool> {
+    (0..params.classes())
+        .map(|c| {
+            let dis = |k: usize| *params.prob[c][k].last().unwrap_or(&1.0);
+            let seen = |k: usize| observed[c][k] >= MIN_OBSERVED_SHARE;
+            if let Some(&k) = identifying.iter().find(|&&k| seen(k)) {
+                return dis(k) < SAME_PERSON_MAX_DISAGREE;
+            }
+            let ks: Vec<usize> = (0..params.prob[c].len()).filter(|&k| seen(k)).collect();
+            !ks.is_empty()
+                && ks.iter().map(|&k| dis(k)).sum::<f64>() / (ks.len() as f64)
+                    < SAME_PERSON_MAX_DISAGREE
+        })
+        .collect()
+}
+
+/// The comparison vector with the attributes of the pair's blocking key made missing.
+pub fn masked(codes: &[u8], excluded: &[bool]) -> Vec<u8> {
+    codes
+        .iter()
+        .zip(excluded)
+        .map(|(&c, &e)| if e { MISSING_LEVEL } else { c })
+        .collect()
+}
+
+/// Expected level counts among matches (`a`) and non-matches (`b`), with the expected
+/// number of matches and the pairs counted: the sufficient statistics of a two-class
+/// model with soft labels.
+#[derive(Debug, Clone)]
+pub struct SoftCounts {
+    /// `a[k][l]`: expected matches with attribute k at level l.
+    pub a: Vec<Vec<f64>>,
+    /// `b[k][l]`: expected non-matches with attribute k at level l.
+    pub b: Vec<Vec<f64>>,
+    /// Expected matches.
+    pub matches: f64,
+    /// Pairs counted.
+    pub pairs: f64,
+}
+
+impl SoftCounts {
+    /// Empty counts for attributes with `n_levels` levels.
+    pub fn new(n_levels: &[usize]) -> SoftCounts {
+        SoftCounts {
+            a: n_levels.iter().map(|&l| vec![0.0; l]).collect(),
+            b: n_levels.iter().map(|&l| vec![0.0; l]).collect(),
+            matches: 0.0,
+            pairs: 0.0,
+        }
+    }
+
+    /// Add `n` pairs with comparison vector `codes`, each a match with probability `g`.
+    pub fn add(&mut self, codes: &[u8], n: f64, g: f64) {
+        for (k, &c) in codes.iter().enumerate() {
+            if c != MISSING_LEVEL {
+                self.a[k][c as usize] += n * g;
+                self.b[k][c as usize] += n * (1.0 - g);
+            }
+        }
+        self.matches += n * g;
+        self.pairs += n;
+    }
+}
+
+/// The scoring model from soft (or true) labels: per attribute, m and u from the
+/// expected level counts plus [`M_SMOOTHING`] pseudo-counts per level, under the level
+/// order ([`em::ordered_rows`]); λ = expected matches / pairs.
+pub fn project(counts: &SoftCounts) -> (f64, Vec<Vec<f64>>, Vec<Vec<f64>>) {
+    let (mut m, mut u) = (Vec::new(), Vec::new());
+    for (a, b) in counts.a.iter().zip(&counts.b) {
+        let a: Vec<f64> = a.iter().map(|x| x + M_SMOOTHING).collect();
+        let b: Vec<f64> = b.iter().map(|x| x + M_SMOOTHING).collect();
+        let (mr, ur) = em::ordered_rows(&a, &b);
+        m.push(mr);
+        u.push(ur);
+    }
+    let lambda = if counts.pairs > 0.0 {
+        counts.matches / counts.pairs
+    } else {
+        0.0
+    };
+    (lambda, m, u)
+}
+
+/// Per blocking key, the model that scores the pairs it produces first: the pooled
+/// weights, except that the attributes the key is built from add 0 (the pair was found
+/// because they agree, so their agreement is not new evidence), and as prior the share
+/// of matches among the key's pairs, shrunk towards the pooled share `lambda` with
+/// [`PRIOR_PAIRS`] pseudo-pairs. This is the Fellegi–Sunter posterior conditional on how
+/// the pair was found (Jaro 1989 scores each blocking pass on its own); m and u come from
+/// all candidate pairs, each attribute from the pairs whose key does not force it.
+pub fn key_models(
+    keys: &[KeyCounts],
+    per_key: &[SoftCounts],
+    lambda: f64,
+    m: &[Vec<f64>],
+    u: &[Vec<f64>],
+) -> Vec<KeyModel> {
+    keys.iter()
+        .zip(per_key)
+        .filter(|(_, own)| own.pairs > 0.0)
+        .map(|(key, own)| {
+            let (km, ku): (Vec<Vec<f64>>, Vec<Vec<f64>>) = (0..m.len())
+                .map(|k| {
+                    if key.excluded[k] {
+                        (vec![1.0; m[k].len()], vec![1.0; m[k].len()])
+                    } else {
+                        (m[k].clone(), u[k].clone())
+                    }
+                })
+                .unzip();
+            let weight = km
+                .iter()
+                .zip(&ku)
+                .map(|(mr, ur)| mr.iter().zip(ur).map(|(a, b)| (a / b).log2()).collect())
+                .collect();
+            KeyModel {
+                name: key.name.clone(),
+                pairs: own.pairs.round() as u64,
+                lambda: ((own.matches + PRIOR_PAIRS * lambda) / (own.pairs + PRIOR_PAIRS))
+                    .clamp(1e-9, 1.0 - 1e-9),
+                m: km,
+                u: ku,
+                weight,
+            }
+        })
+        .collect()
+}
+
+/// Fit the model from per-key comparison vector counts, without labels (see the module
+/// documentation): latent classes on all candidate pairs (each key's own attributes
+/// treated as missing on its pairs), K chosen by BIC among the fits whose classes
+/// separate, then the ordered two-class scoring model from the class posteriors.
 pub fn fit(
     spec: &Spec,
     comparison: &Comparison,
     records: u64,
     keys: &[KeyCounts],
-    u: Vec<Vec<f64>>,
-    u_pairs: u64,
 ) -> Result<Model> {
+    use rayon::prelude::*;
     let n_levels = comparison.n_levels();
     let k_attrs = n_levels.len();
-    let opts = |active: Vec<bool>| em::EmOptions {
-        max_iterations: spec.model.max_iterations,
-        active: Some(active),
-        smoothing: M_SMOOTHING,
-        ..em::EmOptions::default()
-    };
-    let mut blocks = Vec::new();
-    let mut warnings = Vec::new();
-    let mut m_sum: Vec<Vec<f64>> = n_levels.iter().map(|&l| vec![0.0; l]).collect();
-    let mut m_weight = vec![0.0f64; k_attrs];
+    // Pattern counts for the latent classes: key attributes masked, scaled counts.
+    let mut data = em::PatternCounts::new(n_levels.clone());
     let mut candidate_pairs = 0.0;
-    let mut stage1_lambda = Vec::new();
     for key in keys {
-        let pairs = key.counts.total() as f64 * key.scale;
-        candidate_pairs += pairs;
-        let active: Vec<bool> = key.excluded.iter().map(|e| !e).collect();
-        let mut fit_info = BlockFit {
-            name: key.name.clone(),
-            pairs: pairs.round() as u64,
-            patterns: key.all_counts.len() as u64,
-            lambda: 0.0,
-            excluded: comparison
-                .comparators
-                .iter()
-                .zip(&key.excluded)
-                .filter(|(_, e)| **e)
-                .map(|(c, _)| c.attr.name().to_string())
-                .collect(),
-            iterations: 0,
-            converged: true,
-            loglik_trace: Vec::new(),
-            local: false,
-            m: Vec::new(),
-            u: Vec::new(),
-        };
-        stage1_lambda.push(None);
-        if key.all_counts.total() == 0 || !active.iter().any(|a| *a) {
-            blocks.push(fit_info);
-            continue;
+        candidate_pairs += key.counts.total() as f64 * key.scale;
+        for (codes, n) in key.counts.iter() {
+            let scaled = (n as f64 * key.scale).round().max(1.0) as u64;
+            data.add(&masked(&codes, &key.excluded), scaled)?;
         }
-        let mut init = em::default_init(&n_levels, 0.1);
-        init.u = u.clone();
-        let f = em::fit(&key.all_counts, &init, &opts(active.clone()))?;
-        // A latent class fit can split a key's pairs on something other than identity
-        // (e.g. moved vs not moved). Then agreeing on a name would count against a match;
-        // such a fit is not used for the combined m.
-        let wrong: Vec<String> = (0..k_attrs)
-            .filter(|&k| active[k])
-            .filter(|&k| (f.params.m[k][0] / f.params.u[k][0]).log2() < -LOCAL_MIN_TOP_WEIGHT)
-            .map(|k| comparison.comparators[k].attr.name().to_string())
-            .collect();
-        if wrong.is_empty() {
-            let matches = f.params.lambda * key.all_counts.total() as f64 * key.scale;
-            for k in (0..k_attrs).filter(|&k| active[k]) {
-                for (s, m) in m_sum[k].iter_mut().zip(&f.params.m[k]) {
-                    *s += matches * m;
-                }
-                m_weight[k] += matches;
-            }
-        } else {
-            warnings.push(format!(
-                "blocking key `{}`: its EM fit makes the best level of {} count against a \
-                 match, so it separates the pairs on something other than identity; it is \
-                 left out of the combined m",
-                key.name,
-                wrong
-                    .iter()
-                    .map(|w| format!("`{w}`"))
-                    .collect::<Vec<_>>()
-                    .join(", ")
-            ));
-        }
-        if let Some(last) = stage1_lambda.last_mut() {
-            *last = Some(f.params.lambda);
-        }
-        fit_info.iterations = f.iterations;
-        fit_info.converged = f.converged;
-        fit_info.loglik_trace = f.loglik_trace;
-        blocks.push(fit_info);
     }
     if candidate_pairs <= 0.0 {
         return Err(Error::Usage(
@@ -751,93 +747,145 @@ pub fn fit(
                 .into(),
         ));
     }
-    // Attributes left out of every usable fit: fit them on all candidate pairs.
-    let missing: Vec<usize> = (0..k_attrs).filter(|&k| m_weight[k] <= 0.0).collect();
-    if !missing.is_empty() {
-        let mut all = em::PatternCounts::new(n_levels.clone());
-        for key in keys {
-            all.merge(key.counts.clone())?;
-        }
-        let mut init = em::default_init(&n_levels, 0.1);
-        init.u = u.clone();
-        let f = em::fit(&all, &init, &opts(vec![true; k_attrs]))?;
-        for &k in &missing {
-            m_sum[k] = f.params.m[k].clone();
-            m_weight[k] = 1.0;
-        }
-    }
-    let m_final: Vec<Vec<f64>> = (0..k_attrs)
-        .map(|k| m_sum[k].iter().map(|s| s / m_weight[k]).collect())
+    let identifying = identifying_attributes(spec, comparison);
+    let fits: Vec<Result<em::ClassFit>> = (2..=MAX_CLASSES)
+        .into_par_iter()
+        .map(|classes| {
+            em::fit_classes(
+                &data,
+                &em::ClassOptions {
+                    classes,
+                    starts: CLASS_STARTS,
+                    seed: spec.model.seed,
+                    max_iterations: spec.model.max_iterations.max(1) * 5,
+                    rel_tol_loglik: 1e-9,
+                    smoothing: M_SMOOTHING,
+                },
+            )
+        })
         .collect();
-
-    // Stage 2: hold m, fit λ and u on the pairs each key scores.
-    let mut expected = 0.0;
-    for (b, key) in keys.iter().enumerate() {
-        let fit_info = &mut blocks[b];
-        let new_pairs = key.counts.total() as f64 * key.scale;
-        if key.counts.total() == 0 {
-            continue;
+    let mut choices = Vec::new();
+    let mut best: Option<(f64, em::ClassFit, Vec<bool>)> = None;
+    for f in fits {
+        let f = f?;
+        let observed = observed_shares(&data, &f.params);
+        let same = same_person_classes(&f.params, &observed, &identifying);
+        let separated = same.iter().any(|&x| x) && !same.iter().all(|&x| x);
+        let bic = f.bic(data.total());
+        choices.push(ClassChoice {
+            classes: f.params.classes(),
+            loglik: f.loglik,
+            bic,
+            separated,
+        });
+        if separated && best.as_ref().is_none_or(|b| bic < b.0) {
+            best = Some((bic, f, same));
         }
-        let active: Vec<bool> = key.excluded.iter().map(|e| !e).collect();
-        let lambda0 = stage1_lambda[b].unwrap_or(0.1);
-        let earlier: Vec<crate::record::Attr> = spec.blocks[..b]
-            .iter()
-            .flat_map(|bs| bs.keys.iter().map(|p| p.attr))
-            .collect();
-        let free_m: Vec<bool> = comparison
-            .comparators
-            .iter()
-            .map(|c| earlier.contains(&c.attr))
-            .collect();
-        let Some(cf) = conditional_fit(
-            &key.counts,
-            &m_final,
-            &u,
-            lambda0,
-            &free_m,
-            &opts(active.clone()),
-        ) else {
-            expected += lambda0 * new_pairs;
-            fit_info.lambda = lambda0;
-            continue;
-        };
-        expected += cf.lambda * new_pairs;
-        let wrong = (0..k_attrs)
-            .any(|k| active[k] && (cf.m[k][0] / cf.u[k][0]).log2() < -LOCAL_MIN_TOP_WEIGHT);
-        let keep = |rows: &[Vec<f64>]| -> Vec<Vec<f64>> {
-            rows.iter()
-                .zip(&active)
-                .map(|(r, a)| if *a { r.clone() } else { Vec::new() })
-                .collect()
-        };
-        fit_info.m = keep(&cf.m);
-        fit_info.u = keep(&cf.u);
-        fit_info.lambda = cf.lambda;
-        fit_info.iterations += cf.iterations;
-        fit_info.loglik_trace.extend(cf.trace);
-        fit_info.local = !wrong
-            && key.counts.total() >= MIN_LOCAL_PAIRS
-            && cf.lambda > 1e-6
-            && cf.lambda < 1.0 - 1e-6;
     }
-    let all_pairs = (records * records.saturating_sub(1) / 2).max(1) as f64;
-    let lambda = (expected / all_pairs).clamp(1e-12, 0.5);
-    let attribute = attr_models(spec, comparison, &m_final, &u);
-    warnings.extend(level_warnings(&attribute));
+    let Some((_, chosen, same)) = best else {
+        return Err(Error::Usage(format!(
+            "the model cannot tell the same person from other candidate pairs: no latent class \
+             fit with 2 to {MAX_CLASSES} classes separates pairs that agree on {} from pairs \
+             that do not. Compare more attributes (a birth date, a given name) or add blocking \
+             keys, or fit from labelled pairs",
+            if identifying.is_empty() {
+                "the compared attributes".to_string()
+            } else {
+                identifying
+                    .iter()
+                    .map(|&k| format!("`{}`", comparison.comparators[k].attr.name()))
+                    .collect::<Vec<_>>()
+                    .join(" / ")
+            }
+        )));
+    };
+    // Scoring model: full comparison vectors, labelled by the class posteriors of the
+    // masked vectors.
+    let mut soft = SoftCounts::new(&n_levels);
+    let mut per_key = Vec::new();
+    for key in keys {
+        let mut own = SoftCounts::new(&n_levels);
+        for (codes, n) in key.counts.iter() {
+            let codes = masked(&codes, &key.excluded);
+            let post = chosen.params.posteriors(&codes);
+            let g: f64 = post
+                .iter()
+                .zip(&same)
+                .filter(|(_, &s)| s)
+                .map(|(p, _)| p)
+                .sum();
+            soft.add(&codes, n as f64 * key.scale, g.clamp(0.0, 1.0));
+            own.add(&codes, n as f64 * key.scale, g.clamp(0.0, 1.0));
+        }
+        per_key.push(own);
+    }
+    let (lambda, m, u) = project(&soft);
+    let key_models = key_models(keys, &per_key, lambda, &m, &u);
+    let classes = (0..chosen.params.classes())
+        .map(|c| LatentClass {
+            share: chosen.params.share[c],
+            same_person: same[c],
+            disagree: (0..k_attrs)
+                .map(|k| *chosen.params.prob[c][k].last().unwrap_or(&1.0))
+                .collect(),
+        })
+        .collect();
+    let attribute = attr_models(spec, comparison, &m, &u);
+    let mut warnings = level_warnings(&attribute);
+    if !(lambda > 0.0 && lambda < 1.0) {
+        warnings.push(format!("the match prior among candidate pairs is {lambda}"));
+    }
     Ok(Model {
         warnings,
         format: "samekey-model".into(),
         version: MODEL_VERSION,
         spec_fingerprint: spec.model_fingerprint(),
         spec_layout: spec.model_layout(),
-        lambda,
+        lambda: lambda.clamp(1e-9, 1.0 - 1e-9),
         records,
         candidate_pairs: candidate_pairs.round() as u64,
-        expected_matches: expected,
-        u_sample_pairs: u_pairs,
+        expected_matches: soft.matches,
         attribute,
-        block: blocks,
+        keys: key_models,
+        fit: FitReport {
+            method: "latent classes".into(),
+            identifying: identifying
+                .iter()
+                .map(|&k| comparison.comparators[k].attr.name().to_string())
+                .collect(),
+            classes,
+            choices,
+            iterations: chosen.iterations,
+            loglik_trace: chosen.loglik_trace,
+        },
     })
+}
+
+/// Per class and attribute, the share of the class's pairs in which the attribute is
+/// observed.
+fn observed_shares(data: &em::PatternCounts, params: &em::ClassParams) -> Vec<Vec<f64>> {
+    let c_n = params.classes();
+    let k_n = data.n_levels().len();
+    let mut seen = vec![vec![0.0; k_n]; c_n];
+    let mut mass = vec![0.0; c_n];
+    for (codes, n) in data.iter() {
+        let post = params.posteriors(&codes);
+        for c in 0..c_n {
+            let w = n as f64 * post[c];
+            mass[c] += w;
+            for (k, &code) in codes.iter().enumerate() {
+                if code != MISSING_LEVEL {
+                    seen[c][k] += w;
+                }
+            }
+        }
+    }
+    for c in 0..c_n {
+        for x in &mut seen[c] {
+            *x /= mass[c].max(f64::MIN_POSITIVE);
+        }
+    }
+    seen
 }
 
 #[cfg(test)]
@@ -856,7 +904,6 @@ mod tests {
             records: 0,
             candidate_pairs: 0,
             expected_matches: 0.0,
-            u_sample_pairs: 0,
             attribute: vec![AttrModel {
                 attribute: "family_name".into(),
                 levels: vec!["exact".into(), "disagree".into()],
@@ -865,7 +912,15 @@ mod tests {
                 weight: vec![(0.9f64 / 0.01).log2(), (0.1f64 / 0.99).log2()],
                 frequency,
             }],
-            block: Vec::new(),
+            keys: Vec::new(),
+            fit: FitReport {
+                method: "test".into(),
+                identifying: Vec::new(),
+                classes: Vec::new(),
+                choices: Vec::new(),
+                iterations: 0,
+                loglik_trace: Vec::new(),
+            },
             warnings: Vec::new(),
         }
     }
@@ -936,10 +991,12 @@ mod tests {
             freq.weight(None, &exact, rare),
         );
         assert!(wr > ws + 3.0, "rare {wr} vs common {ws}");
-        // p(smith) = 0.6: adjustment log2(0.01 / 0.6) = -5.9 bits.
-        assert!((ws - plain.weight(None, &exact, smith) - (0.01f64 / 0.6).log2()).abs() < 1e-9);
-        // p(quillfeather) = 0.02: log2(0.01 / 0.02) = -1 bit.
-        assert!((wr - plain.weight(None, &exact, rare) + 1.0).abs() < 1e-9);
+        // Σ p² = 0.6² + 0.02² + 38 · 0.01² = 0.3642 (hand computed).
+        let sum_p2 = 0.6f64 * 0.6 + 0.02 * 0.02 + 38.0 * 0.01 * 0.01;
+        // p(smith) = 0.6: adjustment log2(0.3642 / 0.6) = -0.72 bits.
+        assert!((ws - plain.weight(None, &exact, smith) - (sum_p2 / 0.6).log2()).abs() < 1e-9);
+        // p(quillfeather) = 0.02: log2(0.3642 / 0.02) = +4.19 bits.
+        assert!((wr - plain.weight(None, &exact, rare) - (sum_p2 / 0.02).log2()).abs() < 1e-9);
         // Disagreement is not adjusted.
         let mut dis = exact;
         dis[0] = 1;
@@ -947,5 +1004,62 @@ mod tests {
             freq.weight(None, &dis, rare),
             plain.weight(None, &dis, rare)
         );
+    }
+
+    /// The label-free rule: a class is the same person when it rarely disagrees on the
+    /// first identifying attribute observed often enough in it (values invented).
+    #[test]
+    fn same_person_rule_reads_the_identifying_attribute() {
+        // Attributes: 0 family name, 1 given name, 2 birth date; two levels each.
+        let row = |dis: f64| vec![1.0 - dis, dis];
+        let params = em::ClassParams {
+            share: vec![0.3, 0.3, 0.2, 0.2],
+            prob: vec![
+                vec![row(0.05), row(0.1), row(0.02)], // same person
+                vec![row(0.05), row(0.95), row(0.9)], // household
+                vec![row(0.9), row(0.9), row(0.05)],  // names swapped, same birth date
+                vec![row(0.05), row(0.1), row(0.5)],  // birth date rarely observed
+            ],
+        };
+        let observed = vec![
+            vec![1.0, 1.0, 0.9],
+            vec![1.0, 1.0, 0.9],
+            vec![1.0, 1.0, 0.9],
+            vec![1.0, 1.0, 0.1],
+        ];
+        // birth date first, then given name.
+        let same = same_person_classes(&params, &observed, &[2, 1]);
+        assert_eq!(same, vec![true, false, true, true]);
+        // Without identifying attributes: the mean over the observed attributes.
+        let same = same_person_classes(&params, &observed, &[]);
+        assert_eq!(same, vec![true, false, false, true]);
+    }
+
+    proptest::proptest! {
+        /// Every scoring model fitted from (soft) labels keeps the declared level order:
+        /// no level weighs more than a better level of the same attribute; λ is the share
+        /// of expected matches.
+        #[test]
+        fn fitted_weights_keep_the_level_order(
+            rows in proptest::collection::vec(
+                (proptest::collection::vec(0u8..5, 3), 1u32..500, 0.0f64..=1.0),
+                1..60,
+            ),
+        ) {
+            let mut soft = SoftCounts::new(&[5, 5, 5]);
+            for (codes, n, g) in &rows {
+                soft.add(codes, f64::from(*n), *g);
+            }
+            let (lambda, m, u) = project(&soft);
+            let want = soft.matches / soft.pairs;
+            proptest::prop_assert!((lambda - want).abs() < 1e-12);
+            for (mr, ur) in m.iter().zip(&u) {
+                proptest::prop_assert!((mr.iter().sum::<f64>() - 1.0).abs() < 1e-9);
+                let w: Vec<f64> = mr.iter().zip(ur).map(|(a, b)| (a / b).log2()).collect();
+                for pair in w.windows(2) {
+                    proptest::prop_assert!(pair[0] >= pair[1] - 1e-9, "{w:?}");
+                }
+            }
+        }
     }
 }

@@ -12,28 +12,21 @@ use super::em::PatternCounts;
 use super::{KeyCounts, Model};
 use crate::block::{Blocking, Task};
 use crate::compare::Comparison;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::prepare::Prepared;
 use crate::record::RecordTable;
 use crate::sources::SourceReport;
 use crate::spec::Spec;
 use crate::util::Progress;
 
-/// The fit without labels from the comparison vector counts of pass 1: u from random
-/// record pairs, then [`super::fit`].
+/// The fit without labels from the comparison vector counts of pass 1 ([`super::fit`]).
 pub fn fit_counts(
     spec: &Spec,
     table: &RecordTable,
     comparison: &Comparison,
     counts: &[KeyCounts],
 ) -> Result<Model> {
-    let (u, u_pairs) = super::estimate_u(
-        table,
-        comparison,
-        spec.model.u_sample_pairs,
-        spec.model.seed,
-    );
-    super::fit(spec, comparison, table.len() as u64, counts, u, u_pairs)
+    super::fit(spec, comparison, table.len() as u64, counts)
 }
 
 /// Pass 1: comparison vector counts per blocking key.
@@ -52,72 +45,61 @@ pub fn count_patterns(
     // EM on pattern counts; scoring still sees every pair.
     let raw_total: u64 = blocking.keys.iter().map(|k| k.raw_pairs()).sum();
     let keep_one_in = (raw_total / COUNT_SAMPLE_PAIRS).max(1);
-    type Pair = (Vec<PatternCounts>, Vec<PatternCounts>);
-    let fresh = || -> Pair {
-        (
-            (0..n_keys)
-                .map(|_| PatternCounts::new(n_levels.clone()))
-                .collect(),
-            (0..n_keys)
-                .map(|_| PatternCounts::new(n_levels.clone()))
-                .collect(),
-        )
+    let fresh = || -> Vec<PatternCounts> {
+        (0..n_keys)
+            .map(|_| PatternCounts::new(n_levels.clone()))
+            .collect()
     };
-    let parts: Vec<Result<Pair>> = crate::util::chunks(tasks)
+    let parts: Vec<Result<Vec<PatternCounts>>> = crate::util::chunks(tasks)
         .into_par_iter()
         .map(|chunk| {
-            let (mut new_counts, mut all_counts) = fresh();
+            let mut counts = fresh();
             let mut scratch = comparison.scratch();
             for task in chunk {
                 progress.inc(1);
                 if keep_one_in > 1 && task_hash(task) % keep_one_in != 0 {
                     continue;
                 }
-                let (cn, ca) = (&mut new_counts[task.key], &mut all_counts[task.key]);
+                let c = &mut counts[task.key];
                 let mut err = Ok(());
-                blocking.for_each_pair_all(task, |a, b, new| {
+                blocking.for_each_pair(task, |a, b| {
                     let g = comparison.gamma(table, a, b, &mut scratch);
-                    let r =
-                        ca.add(&g[..k], 1)
-                            .and_then(|_| if new { cn.add(&g[..k], 1) } else { Ok(()) });
-                    if let Err(e) = r {
+                    if let Err(e) = c.add(&g[..k], 1) {
                         err = Err(e);
                     }
                 });
                 err?;
             }
-            Ok((new_counts, all_counts))
+            Ok(counts)
         })
         .collect();
-    let (mut total_new, mut total_all) = fresh();
+    let mut total = fresh();
     for part in parts {
-        let (n, a) = part?;
-        for (t, p) in total_new.iter_mut().zip(n) {
-            t.merge(p)?;
-        }
-        for (t, p) in total_all.iter_mut().zip(a) {
+        for (t, p) in total.iter_mut().zip(part?) {
             t.merge(p)?;
         }
     }
     Ok(spec
         .blocks
         .iter()
-        .zip(total_new.into_iter().zip(total_all))
-        .map(|(b, (counts, all_counts))| {
-            let key_attrs = crate::block::key_attrs(b);
-            KeyCounts {
-                name: b.name.clone(),
-                excluded: comparison
-                    .comparators
-                    .iter()
-                    .map(|c| key_attrs.contains(&c.attr))
-                    .collect(),
-                counts,
-                all_counts,
-                scale: keep_one_in as f64,
-            }
+        .zip(total)
+        .map(|(b, counts)| KeyCounts {
+            name: b.name.clone(),
+            excluded: key_excluded(b, comparison),
+            counts,
+            scale: keep_one_in as f64,
         })
         .collect())
+}
+
+/// Per compared attribute, true when blocking key `b` is built from it.
+fn key_excluded(b: &crate::block::BlockSpec, comparison: &Comparison) -> Vec<bool> {
+    let key_attrs = crate::block::key_attrs(b);
+    comparison
+        .comparators
+        .iter()
+        .map(|c| key_attrs.contains(&c.attr))
+        .collect()
 }
 
 /// About this many pairs are compared for the EM counts; above it, tasks are sampled.
@@ -154,16 +136,15 @@ pub fn train(spec: &Spec, prepared: &Prepared, progress: &Progress) -> Result<Tr
 }
 
 /// Fit the "oracle" model from true labels, for comparison with the unsupervised fit:
-/// m from the level frequencies among the candidate pairs that are true matches
-/// (smoothed like EM's m), u from the same random pairs as the unsupervised fit, and λ
-/// from the true matches among the candidates. `entity` gives each record's entity, in
-/// table order; see [`crate::evaluate::entities_from_truth`].
+/// the same scoring model ([`super::project`]: ordered m and u among the candidate pairs,
+/// λ = share of matches among them), with each candidate pair labelled by the truth
+/// instead of by the latent classes. Records missing from the truth count as entities
+/// of their own.
 pub fn train_oracle(
     spec: &Spec,
     prepared: &Prepared,
     truth: &crate::evaluate::Grouping,
 ) -> Result<TrainSummary> {
-    use std::sync::atomic::{AtomicU64, Ordering};
     let (table, blocking, comparison, tasks) = (
         &prepared.table,
         &prepared.blocking,
@@ -172,121 +153,75 @@ pub fn train_oracle(
     );
     let entity = crate::evaluate::entities_from_truth(table, truth);
     let n_levels = comparison.n_levels();
+    let k = comparison.len();
+    // Per blocking key, pattern counts of true matches [0] and non-matches [1].
     let n_keys = blocking.keys.len();
-    // Level counts per key, per class (0 = true match, 1 = non-match), per attribute.
-    type Counts = Vec<[Vec<Vec<u64>>; 2]>;
-    let empty = || -> Counts {
+    let fresh = || -> Vec<[PatternCounts; 2]> {
         (0..n_keys)
             .map(|_| {
-                let rows = || n_levels.iter().map(|&l| vec![0u64; l]).collect::<Vec<_>>();
-                [rows(), rows()]
+                [
+                    PatternCounts::new(n_levels.clone()),
+                    PatternCounts::new(n_levels.clone()),
+                ]
             })
             .collect()
     };
-    let pair_counts: Vec<AtomicU64> = (0..2 * n_keys).map(|_| AtomicU64::new(0)).collect();
-    let parts: Vec<Counts> = crate::util::chunks(tasks)
+    let parts: Vec<Result<Vec<[PatternCounts; 2]>>> = crate::util::chunks(tasks)
         .into_par_iter()
         .map(|chunk| {
-            let mut counts = empty();
+            let mut counts = fresh();
             let mut scratch = comparison.scratch();
+            let mut err = Ok(());
             for task in chunk {
-                let mut seen = [0u64; 2];
+                let c = &mut counts[task.key];
                 blocking.for_each_pair(task, |a, b| {
                     let class = usize::from(entity[a as usize] != entity[b as usize]);
-                    seen[class] += 1;
                     let g = comparison.gamma(table, a, b, &mut scratch);
-                    super::count_levels(&mut counts[task.key][class], &g);
+                    if let Err(e) = c[class].add(&g[..k], 1) {
+                        err = Err(e);
+                    }
                 });
-                pair_counts[2 * task.key].fetch_add(seen[0], Ordering::Relaxed);
-                pair_counts[2 * task.key + 1].fetch_add(seen[1], Ordering::Relaxed);
             }
-            counts
+            err.map(|_| counts)
         })
         .collect();
-    let mut by_key = empty();
+    let mut by_key = fresh();
     for part in parts {
-        for (t, p) in by_key.iter_mut().zip(part) {
-            for (tc, pc) in t.iter_mut().zip(&p) {
-                super::add_level_counts(tc, pc);
-            }
+        for (t, [m, o]) in by_key.iter_mut().zip(part?) {
+            t[0].merge(m)?;
+            t[1].merge(o)?;
         }
     }
-    let smooth = |row: &[u64]| -> Vec<f64> {
-        let total: u64 = row.iter().sum();
-        let denom = total as f64 + super::M_SMOOTHING * row.len() as f64;
-        row.iter()
-            .map(|&x| (x as f64 + super::M_SMOOTHING) / denom)
-            .collect()
-    };
-    let (u, u_pairs) = super::estimate_u(
-        table,
-        comparison,
-        spec.model.u_sample_pairs,
-        spec.model.seed,
-    );
-    let mut blocks = Vec::new();
-    let mut counts: Vec<Vec<u64>> = n_levels.iter().map(|&l| vec![0; l]).collect();
-    let (mut cand, mut matches) = (0u64, 0u64);
-    for (b, (kb, spec_b)) in blocking.keys.iter().zip(&spec.blocks).enumerate() {
-        let m_pairs = pair_counts[2 * b].load(Ordering::Relaxed);
-        let p = m_pairs + pair_counts[2 * b + 1].load(Ordering::Relaxed);
-        cand += p;
-        matches += m_pairs;
-        for (row, krow) in counts.iter_mut().zip(&by_key[b][0]) {
-            for (x, y) in row.iter_mut().zip(krow) {
-                *x += y;
-            }
-        }
-        let key_attrs = crate::block::key_attrs(spec_b);
-        let excluded: Vec<bool> = comparison
-            .comparators
-            .iter()
-            .map(|c| key_attrs.contains(&c.attr))
-            .collect();
-        let rows = |class: usize| -> Vec<Vec<f64>> {
-            by_key[b][class]
-                .iter()
-                .zip(&excluded)
-                .map(|(row, e)| if *e { Vec::new() } else { smooth(row) })
-                .collect()
-        };
-        let lambda = if p == 0 {
-            0.0
-        } else {
-            m_pairs as f64 / p as f64
-        };
-        blocks.push(super::BlockFit {
-            name: kb.name.clone(),
-            pairs: p,
-            patterns: 0,
-            lambda,
-            excluded: comparison
-                .comparators
-                .iter()
-                .zip(&excluded)
-                .filter(|(_, e)| **e)
-                .map(|(c, _)| c.attr.name().to_string())
-                .collect(),
-            iterations: 0,
-            converged: true,
-            loglik_trace: Vec::new(),
-            local: p >= super::MIN_LOCAL_PAIRS && lambda > 1e-6 && lambda < 1.0 - 1e-6,
-            m: rows(0),
-            u: rows(1),
-        });
-    }
-    let n = table.len() as u64;
-    let all = (n * n.saturating_sub(1) / 2).max(1) as f64;
-    let m: Vec<Vec<f64>> = counts
+    let mut soft = super::SoftCounts::new(&n_levels);
+    let mut per_key = Vec::new();
+    let key_counts: Vec<KeyCounts> = spec
+        .blocks
         .iter()
-        .map(|row| {
-            let total: u64 = row.iter().sum();
-            let denom = total as f64 + super::M_SMOOTHING * row.len() as f64;
-            row.iter()
-                .map(|&x| (x as f64 + super::M_SMOOTHING) / denom)
-                .collect()
+        .map(|b| KeyCounts {
+            name: b.name.clone(),
+            excluded: key_excluded(b, comparison),
+            counts: PatternCounts::new(n_levels.clone()),
+            scale: 1.0,
         })
         .collect();
+    for ([matches, others], key) in by_key.iter().zip(&key_counts) {
+        let mut own = super::SoftCounts::new(&n_levels);
+        for (label, counts) in [(1.0, matches), (0.0, others)] {
+            for (codes, n) in counts.iter() {
+                let codes = super::masked(&codes, &key.excluded);
+                soft.add(&codes, n as f64, label);
+                own.add(&codes, n as f64, label);
+            }
+        }
+        per_key.push(own);
+    }
+    if soft.pairs <= 0.0 {
+        return Err(Error::Usage(
+            "the blocking keys produced no candidate pairs, so there is nothing to fit".into(),
+        ));
+    }
+    let (lambda, m, u) = super::project(&soft);
+    let keys = super::key_models(&key_counts, &per_key, lambda, &m, &u);
     let attribute = super::attr_models(spec, comparison, &m, &u);
     let warnings = super::level_warnings(&attribute);
     let fitted = Model {
@@ -294,13 +229,20 @@ pub fn train_oracle(
         version: super::MODEL_VERSION,
         spec_fingerprint: spec.model_fingerprint(),
         spec_layout: spec.model_layout(),
-        lambda: (matches as f64 / all).clamp(1e-12, 0.5),
-        records: n,
-        candidate_pairs: cand,
-        expected_matches: matches as f64,
-        u_sample_pairs: u_pairs,
+        lambda: lambda.clamp(1e-9, 1.0 - 1e-9),
+        records: table.len() as u64,
+        candidate_pairs: soft.pairs.round() as u64,
+        expected_matches: soft.matches,
         attribute,
-        block: blocks,
+        keys,
+        fit: super::FitReport {
+            method: "true labels".into(),
+            identifying: Vec::new(),
+            classes: Vec::new(),
+            choices: Vec::new(),
+            iterations: 0,
+            loglik_trace: Vec::new(),
+        },
         warnings,
     };
     Ok(TrainSummary {

@@ -144,7 +144,7 @@ pub fn explain(
         .collect();
     let local_fit = key.and_then(|k| {
         let name = &spec.blocks[k].name;
-        model.block.iter().find(|f| &f.name == name && f.local)
+        model.keys.iter().find(|f| &f.name == name)
     });
     let guards = SpecGuards::new(spec, table, comparison);
     let record = |(src, id): (&str, &str)| ExplainedRecord {

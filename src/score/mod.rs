@@ -283,14 +283,14 @@ mod tests {
             records: 0,
             candidate_pairs: 0,
             expected_matches: 0.0,
-            u_sample_pairs: 0,
             attribute: vec![
                 // exact: log2(0.9/0.01) = 6.4919 bits; disagree: log2(0.1/0.99) = -3.3074.
                 attr("family_name", [0.9, 0.1], [0.01, 0.99]),
                 // exact: log2(0.8/0.001) = 9.6439 bits; disagree: log2(0.2/0.999) = -2.3205.
                 attr("email", [0.8, 0.2], [0.001, 0.999]),
             ],
-            block: Vec::new(),
+            keys: Vec::new(),
+            fit: Default::default(),
             warnings: Vec::new(),
         }
     }
