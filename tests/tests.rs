@@ -10,5 +10,6 @@ mod exit_codes;
 mod help;
 mod link;
 mod module_graph;
+mod plan;
 mod refresh;
 mod tricky;
