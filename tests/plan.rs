@@ -6,6 +6,19 @@ use crate::common::*;
 fn a_weak_spec_is_shown_the_key_that_finds_its_missing_match() {
     let dir = mini_copy();
     let spec = dir.path().join("spec.toml");
+    let fit = dir.path().join("fit");
+    let o = run(
+        &[
+            "--quiet",
+            "train",
+            "--spec",
+            spec.to_str().unwrap(),
+            "--out",
+            fit.to_str().unwrap(),
+        ],
+        None,
+    );
+    assert!(o.status.success(), "{}", text(&o).1);
     let s = std::fs::read_to_string(&spec).unwrap();
     // Only the e-mail key: one true pair of the mini data has no e-mail in common.
     let weak = s.replace(
@@ -14,7 +27,17 @@ fn a_weak_spec_is_shown_the_key_that_finds_its_missing_match() {
     );
     assert_ne!(weak, s, "test setup");
     std::fs::write(&spec, weak).unwrap();
-    let o = run(&["plan", "--spec", spec.to_str().unwrap()], None);
+    let model = fit.join("model.toml");
+    let o = run(
+        &[
+            "plan",
+            "--spec",
+            spec.to_str().unwrap(),
+            "--model",
+            model.to_str().unwrap(),
+        ],
+        None,
+    );
     let (out, err) = text(&o);
     assert!(o.status.success(), "{err}");
     assert!(out.contains("share of the 8 confident matches"), "{out}");
