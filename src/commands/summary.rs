@@ -31,6 +31,9 @@ pub fn print(s: &RunSummary, timings: bool) {
     if !fixes.is_empty() {
         println!("  standardize: {}", fixes.join("; "));
     }
+    for line in samekey::standardize::summary_lines(&s.std_stats) {
+        println!("  {line}");
+    }
     println!("\nBlocking ({} records)", s.records);
     println!(
         "  {:<20} {:>12} {:>12} {:>8} {:>8}",

@@ -383,6 +383,16 @@ impl Comparator {
                 return i as u8;
             }
         }
+        // Without a `partial` level, a date missing its year or day that agrees with the
+        // other on what it holds is no evidence either way (it must not count as a
+        // conflict, e.g. for the one-birth-date guard).
+        if !self.dates.is_empty() && !self.levels.contains(&Level::Partial) {
+            if let (Some(x), Some(y)) = (self.dates[a as usize], self.dates[b as usize]) {
+                if partial_date_agrees(x, y) {
+                    return MISSING_LEVEL;
+                }
+            }
+        }
         self.disagree()
     }
 }
@@ -976,6 +986,14 @@ mod tests {
         assert_eq!(parse_date_value("--05-17"), Some((0, 5, 17)));
         assert_eq!(parse_date_value("1980-05"), Some((1980, 5, 0)));
         assert_eq!(parse_date_value("17.05.1980"), None);
+        // Without the `partial` level, agreeing partial dates are neutral (missing) and
+        // conflicting ones disagree.
+        let got = levels_of(
+            Attr::BirthDate,
+            &["exact", "same_year"],
+            &["1980-05-17", "--05-17", "--06-17", "1980-05"],
+        );
+        assert_eq!(got, ["missing", "disagree", "same_year"]);
     }
 
     #[test]

@@ -147,16 +147,22 @@ fn load_chunked(
     } else {
         None
     };
+    // Phones written without a country code are also tried in the regions that the
+    // other sources declare.
+    let mut countries: Vec<String> = Vec::new();
+    for c in sources.iter().filter_map(|s| s.conventions.country.clone()) {
+        if !countries.contains(&c) {
+            countries.push(c);
+        }
+    }
+    let countries = std::sync::Arc::new(countries);
     for (i, src) in sources.iter().enumerate() {
-        let mixed;
-        let src = if src.conventions.name_order == NameOrder::Mixed {
-            let mut s = src.clone();
-            s.conventions.names = names.clone();
-            mixed = s;
-            &mixed
-        } else {
-            src
-        };
+        let mut src = src.clone();
+        src.conventions.spec_countries = countries.clone();
+        if src.conventions.name_order == NameOrder::Mixed {
+            src.conventions.names = names.clone();
+        }
+        let src = &src;
         let report = load_source(
             src,
             i as u16,

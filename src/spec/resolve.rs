@@ -316,7 +316,7 @@ impl Resolver {
             Some(o) => DateOrder::from_name(o).ok_or_else(|| {
                 self.err(
                     join(at, "date_order"),
-                    format!("`{o}` is not allowed; use one of ymd, dmy, mdy"),
+                    format!("`{o}` is not allowed; use one of ymd, dmy, mdy, country"),
                 )
             })?,
         };

@@ -638,6 +638,48 @@ fn gb_postcode(compact: &str) -> Option<String> {
     (inward_ok && outward_ok).then(|| format!("{out} {inw}"))
 }
 
+/// The country a postcode's shape belongs to, when only one country writes postcodes
+/// that way: UK (`SW1A 1AA`, Royal Mail PAF format), Canada (`K1A 0B6`, Canada Post),
+/// the Netherlands (`1234 AB`, PostNL), Poland (`00-950`), Portugal (`1000-001`),
+/// Japan (`100-0001`), Brazil (`01310-100`) and the US ZIP+4 (`20500-0003`). Digits-only
+/// postcodes (most countries) say nothing. Case and spacing are ignored.
+pub fn country_of_postcode_shape(raw: &str) -> Option<&'static str> {
+    let mut shape = String::with_capacity(raw.len());
+    for c in raw.trim().chars() {
+        match c {
+            'a'..='z' | 'A'..='Z' => shape.push('A'),
+            '0'..='9' => shape.push('9'),
+            ' ' => {
+                if !shape.ends_with(' ') {
+                    shape.push(' ');
+                }
+            }
+            '-' => shape.push('-'),
+            _ => return None,
+        }
+    }
+    const UK: &[&str] = &[
+        "A9 9AA", "A99 9AA", "AA9 9AA", "AA99 9AA", "A9A 9AA", "AA9A 9AA",
+    ];
+    let compact = shape.replace(' ', "");
+    if UK
+        .iter()
+        .any(|s| *s == shape || s.replace(' ', "") == compact)
+    {
+        return Some("GB");
+    }
+    match shape.as_str() {
+        "A9A 9A9" | "A9A9A9" => Some("CA"),
+        "9999 AA" | "9999AA" => Some("NL"),
+        "99-999" => Some("PL"),
+        "9999-999" => Some("PT"),
+        "999-9999" => Some("JP"),
+        "99999-999" => Some("BR"),
+        "99999-9999" => Some("US"),
+        _ => None,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -869,5 +911,31 @@ mod tests {
         );
         assert_eq!(normalize_city("München"), Cleaned::Parsed("münchen".into()));
         assert_eq!(normalize_city(" - "), Cleaned::Invalid);
+    }
+
+    #[test]
+    fn postcode_shapes_that_name_one_country() {
+        // Formats: Royal Mail (UK), Canada Post, PostNL, Poczta Polska, CTT (Portugal),
+        // Japan Post, Correios (Brazil), USPS ZIP+4; examples are the postal services'
+        // published ones as remembered (SW1A 1AA, K1A 0B1, 1012 AB, 00-950, 1000-001,
+        // 100-0001, 01310-100, 20500-0003).
+        for (raw, want) in [
+            ("SW1A 1AA", "GB"),
+            ("sw1a1aa", "GB"),
+            ("M1 1AE", "GB"),
+            ("K1A 0B1", "CA"),
+            ("1012 AB", "NL"),
+            ("00-950", "PL"),
+            ("1000-001", "PT"),
+            ("100-0001", "JP"),
+            ("01310-100", "BR"),
+            ("20500-0003", "US"),
+        ] {
+            assert_eq!(country_of_postcode_shape(raw), Some(want), "{raw}");
+        }
+        // Digits only: many countries.
+        for raw in ["75008", "10115", "28013", "1010", "", "SW1A-1AA!"] {
+            assert_eq!(country_of_postcode_shape(raw), None, "{raw}");
+        }
     }
 }

@@ -213,7 +213,7 @@ fn parse_inner(raw: &str, order: DateOrder) -> Option<((i32, u8, u8), bool)> {
             // Both short: "17 May 80" / "May 17 80" / "80 May 17".
             match order {
                 DateOrder::Ymd => (nums[1], nums[0]),
-                DateOrder::Dmy | DateOrder::Mdy => (nums[0], nums[1]),
+                DateOrder::Dmy | DateOrder::Mdy | DateOrder::Country => (nums[0], nums[1]),
             }
         };
         let (y, two) = year_of(year)?;
@@ -231,7 +231,7 @@ fn parse_inner(raw: &str, order: DateOrder) -> Option<((i32, u8, u8), bool)> {
     } else {
         match order {
             DateOrder::Ymd => (n[0], n[1], n[2]),
-            DateOrder::Dmy => (n[2], n[1], n[0]),
+            DateOrder::Dmy | DateOrder::Country => (n[2], n[1], n[0]),
             DateOrder::Mdy => (n[2], n[0], n[1]),
         }
     };
@@ -245,10 +245,73 @@ pub fn parse_date(s: &str, order: DateOrder) -> Option<(i32, u8, u8)> {
     parse_inner(s, order).map(|(d, _)| d)
 }
 
-/// Standardize a date to `YYYY-MM-DD`.
+/// A date without a year or without a day, written in ISO 8601's reduced forms:
+/// `--MM-DD` (day and month, as XML Schema's `gMonthDay`) or `YYYY-MM` (year and month).
+///
+/// Read from two fields: `--05-17` itself; a four-digit field with a month (`1980-05`,
+/// `05/1980`, `May 1980`); or a day and a month, ordered as `order` says (`17.05.`,
+/// `05/17`, `17 May`; year-first sources write month-day). The day must exist in the
+/// month of some year (29 February is allowed).
+pub fn parse_partial(raw: &str, order: DateOrder) -> Option<String> {
+    let s = raw.trim();
+    // `--MM-DD` is month-day in any source order.
+    let (s, order) = match s.strip_prefix("--") {
+        Some(rest) => (rest, DateOrder::Ymd),
+        None => (s, order),
+    };
+    let fields: Vec<&str> = s
+        .split(['-', '/', '.', ',', ' '])
+        .filter(|f| !f.is_empty())
+        .collect();
+    let [a, b] = fields[..] else {
+        return None;
+    };
+    let month_of = |f: &str| -> Option<u8> {
+        if f.bytes().all(|c| c.is_ascii_digit()) {
+            small(f).filter(|m| (1..=12).contains(m))
+        } else {
+            month_number(f)
+        }
+    };
+    let is_year = |f: &str| f.len() == 4 && f.bytes().all(|c| c.is_ascii_digit());
+    let year_month = |y: &str, m: &str| -> Option<String> {
+        let y: i32 = y.parse().ok()?;
+        let m = month_of(m)?;
+        (MIN_YEAR..=MAX_YEAR)
+            .contains(&y)
+            .then(|| format!("{y:04}-{m:02}"))
+    };
+    if is_year(a) {
+        return year_month(a, b);
+    }
+    if is_year(b) {
+        return year_month(b, a);
+    }
+    let named = |f: &str| !f.bytes().all(|c| c.is_ascii_digit());
+    let (d, m) = if named(a) {
+        (b, a)
+    } else if named(b) {
+        (a, b)
+    } else {
+        match order {
+            DateOrder::Dmy | DateOrder::Country => (a, b),
+            DateOrder::Mdy | DateOrder::Ymd => (b, a),
+        }
+    };
+    let m = month_of(m)?;
+    let d = small(d)?;
+    (d >= 1 && d <= days_in_month(2000, m)).then(|| format!("--{m:02}-{d:02}"))
+}
+
+/// Standardize a date to `YYYY-MM-DD`; a date without a year or without a day to its
+/// reduced form ([`parse_partial`]).
 pub fn normalize_date(raw: &str, order: DateOrder) -> Cleaned {
     match parse_inner(raw, order) {
-        None => Cleaned::Invalid,
+        None => match parse_partial(raw, order) {
+            Some(p) if raw.trim() == p => Cleaned::Parsed(p),
+            Some(p) => Cleaned::Repaired(p),
+            None => Cleaned::Invalid,
+        },
         Some(((y, m, d), repaired)) => {
             let iso = format!("{y:04}-{m:02}-{d:02}");
             if repaired {
@@ -403,5 +466,71 @@ mod tests {
             let _ = normalize_date(&s, DateOrder::Dmy);
             let _ = normalize_date(&s, DateOrder::Mdy);
         }
+    }
+
+    #[test]
+    fn partial_dates_in_reduced_iso_forms() {
+        // ISO 8601-1:2019 reduced precision: YYYY-MM; XML Schema 1.1 gMonthDay: --MM-DD.
+        for (raw, order, want) in [
+            ("--05-17", DateOrder::Ymd, "--05-17"),
+            ("17.05.", DateOrder::Dmy, "--05-17"),
+            ("17/05", DateOrder::Dmy, "--05-17"),
+            ("05/17", DateOrder::Mdy, "--05-17"),
+            ("17 May", DateOrder::Mdy, "--05-17"),
+            ("Mai 17", DateOrder::Dmy, "--05-17"),
+            ("29.02.", DateOrder::Dmy, "--02-29"),
+            ("1980-05", DateOrder::Dmy, "1980-05"),
+            ("05/1980", DateOrder::Mdy, "1980-05"),
+            ("May 1980", DateOrder::Dmy, "1980-05"),
+        ] {
+            assert_eq!(
+                normalize_date(raw, order).into_value().as_deref(),
+                Some(want),
+                "{raw}"
+            );
+            // Read again: the same value.
+            assert_eq!(
+                normalize_date(want, order).into_value().as_deref(),
+                Some(want)
+            );
+        }
+        for raw in ["30.02.", "13/13", "1849-05", "17", "05/17/80/1"] {
+            assert_eq!(
+                normalize_date(raw, DateOrder::Dmy),
+                Cleaned::Invalid,
+                "{raw}"
+            );
+        }
+        assert_eq!(
+            normalize_date("--05-17", DateOrder::Ymd),
+            Cleaned::Parsed("--05-17".into())
+        );
+    }
+
+    #[test]
+    fn date_order_per_record_country() {
+        // The United States writes month first, Germany day first, Japan year first
+        // (national conventions, from memory).
+        assert_eq!(DateOrder::of_country(Some("US")), DateOrder::Mdy);
+        assert_eq!(DateOrder::of_country(Some("DE")), DateOrder::Dmy);
+        assert_eq!(DateOrder::of_country(Some("JP")), DateOrder::Ymd);
+        assert_eq!(DateOrder::of_country(None), DateOrder::Dmy);
+        let c = DateOrder::Country;
+        let iso = |raw: &str, country: &str| {
+            normalize_date(raw, c.for_record(Some(country))).into_value()
+        };
+        assert_eq!(iso("05/04/1980", "US").as_deref(), Some("1980-05-04"));
+        assert_eq!(iso("05/04/1980", "FR").as_deref(), Some("1980-04-05"));
+        assert_eq!(DateOrder::Dmy.for_record(Some("US")), DateOrder::Dmy);
+    }
+
+    #[test]
+    fn plain_number_dates() {
+        // YYYYMMDD, ISO 8601 basic format.
+        assert_eq!(
+            normalize_date("19800517", DateOrder::Dmy),
+            Cleaned::Parsed("1980-05-17".into())
+        );
+        assert_eq!(normalize_date("19800230", DateOrder::Dmy), Cleaned::Invalid);
     }
 }

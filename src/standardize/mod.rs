@@ -63,6 +63,9 @@ pub enum DateOrder {
     Dmy,
     /// `MM/DD/YYYY`.
     Mdy,
+    /// Each record's dates follow its country's custom ([`DateOrder::of_country`]): a
+    /// shop serving several countries that writes each customer's dates the local way.
+    Country,
 }
 
 /// Order of names in a full-name column written without a comma.
@@ -85,7 +88,34 @@ impl DateOrder {
             "ymd" => Some(DateOrder::Ymd),
             "dmy" => Some(DateOrder::Dmy),
             "mdy" => Some(DateOrder::Mdy),
+            "country" => Some(DateOrder::Country),
             _ => None,
+        }
+    }
+
+    /// The order to read a record's dates in: the declared one, or for
+    /// [`DateOrder::Country`] the custom of the record's country (the source's country
+    /// when the record has none).
+    pub fn for_record(self, country: Option<&str>) -> DateOrder {
+        match self {
+            DateOrder::Country => DateOrder::of_country(country),
+            other => other,
+        }
+    }
+
+    /// The usual all-numeric date order of a country (from memory of national
+    /// conventions, no single source): month first in the United States and its
+    /// territories, the Philippines, Micronesia, the Marshall Islands and Palau; year
+    /// first in China, Japan, both Koreas, Taiwan, Mongolia, Hungary, Lithuania and
+    /// Iran; day first everywhere else (most of the world) and when the country is
+    /// unknown. A four-digit first field is read as the year in any order.
+    pub fn of_country(country: Option<&str>) -> DateOrder {
+        match country {
+            Some("US" | "PR" | "GU" | "VI" | "AS" | "MP" | "UM" | "PH" | "FM" | "MH" | "PW") => {
+                DateOrder::Mdy
+            }
+            Some("CN" | "JP" | "KR" | "KP" | "TW" | "MN" | "HU" | "LT" | "IR") => DateOrder::Ymd,
+            _ => DateOrder::Dmy,
         }
     }
 }
@@ -120,6 +150,9 @@ pub struct Conventions {
     pub name_order: NameOrder,
     /// Given- and family-name word counts of the run, for `NameOrder::Mixed`.
     pub names: Option<std::sync::Arc<names::NameFrequencies>>,
+    /// The countries all sources of the spec declare (alpha-2, in spec order): the
+    /// last regions a phone number written without its country code is tried in.
+    pub spec_countries: std::sync::Arc<Vec<String>>,
 }
 
 /// Counts for one attribute.
@@ -140,6 +173,12 @@ pub struct AttrStats {
 pub struct StdStats {
     /// Indexed by [`Attr::index`].
     pub attrs: [AttrStats; Attr::COUNT],
+    /// Kept phone numbers by how their region was decided, indexed by
+    /// [`phone::RegionMethod::index`].
+    pub phone_regions: [u64; phone::RegionMethod::ALL.len()],
+    /// Kept phone numbers that are possible but not valid by the numbering plan (or
+    /// whose region could not be decided): compared, marked unverified.
+    pub phone_unverified: u64,
 }
 
 impl StdStats {
@@ -151,6 +190,10 @@ impl StdStats {
             a.repaired += b.repaired;
             a.invalid += b.invalid;
         }
+        for (a, b) in self.phone_regions.iter_mut().zip(other.phone_regions) {
+            *a += b;
+        }
+        self.phone_unverified += other.phone_unverified;
     }
 }
 
@@ -234,6 +277,70 @@ fn source_country(conv: &Conventions) -> Option<&str> {
     country::country_code(c)
 }
 
+/// Summary lines about phones and countries: how many numbers were kept unverified,
+/// how each kept number's region was decided, and how many country values could not be
+/// mapped to an ISO code. Empty when there is nothing to say.
+pub fn summary_lines(stats: &StdStats) -> Vec<String> {
+    let mut lines = Vec::new();
+    let kept: u64 = stats.phone_regions.iter().sum();
+    if kept > 0 {
+        let by: Vec<String> = phone::RegionMethod::ALL
+            .iter()
+            .filter(|m| stats.phone_regions[m.index()] > 0)
+            .map(|m| format!("{} {}", m.name(), stats.phone_regions[m.index()]))
+            .collect();
+        lines.push(format!(
+            "phones: {kept} kept, {} of them unverified (possible but not valid by the numbering plan, or no region); region from: {}",
+            stats.phone_unverified,
+            by.join(", ")
+        ));
+    }
+    let country = stats.attrs[Attr::Country.index()];
+    if country.invalid > 0 {
+        lines.push(format!(
+            "country: {} of {} values not mapped to an ISO 3166 code (treated as missing)",
+            country.invalid, country.present
+        ));
+    }
+    lines
+}
+
+/// The regions a phone number written without its country code may belong to, best
+/// evidence first: the record's country column, its e-mail's country-code domain, its
+/// postcode's shape, the source's country, then the other countries the spec's sources
+/// declare (each region once).
+fn phone_regions<'a>(
+    raw: &'a StdRecord,
+    out: &'a StdRecord,
+    record_country: Option<&'a str>,
+    conv: &'a Conventions,
+) -> Vec<(&'a str, phone::RegionMethod)> {
+    use phone::RegionMethod as M;
+    let mut regions: Vec<(&str, M)> = Vec::with_capacity(4 + conv.spec_countries.len());
+    let mut add = |r: Option<&'a str>, m: M| {
+        if let Some(r) = r {
+            if !regions.iter().any(|(x, _)| *x == r) {
+                regions.push((r, m));
+            }
+        }
+    };
+    add(record_country, M::Country);
+    add(
+        out.get(Attr::Email).and_then(phone::region_of_email),
+        M::EmailDomain,
+    );
+    add(
+        raw.get(Attr::Postcode)
+            .and_then(address::country_of_postcode_shape),
+        M::Postcode,
+    );
+    add(source_country(conv), M::Source);
+    for c in conv.spec_countries.iter() {
+        add(Some(c.as_str()), M::SpecCountries);
+    }
+    regions
+}
+
 /// Standardize one record's raw values (conventions in the module doc).
 pub fn standardize(raw: &StdRecord, conv: &Conventions, stats: &mut StdStats) -> StdRecord {
     let mut out = StdRecord::default();
@@ -300,18 +407,27 @@ pub fn standardize(raw: &StdRecord, conv: &Conventions, stats: &mut StdStats) ->
         out.set(Attr::PhoneType, t);
     }
     if let Some(v) = take(raw, Attr::Phone, stats) {
-        let (cleaned, kind) = phone::normalize_phone_typed(v, country);
-        let p = count(Attr::Phone, cleaned, stats);
+        let regions = phone_regions(raw, &out, record_country.as_deref(), conv);
+        let outcome = phone::standardize_phone(v, &regions);
+        let p = count(Attr::Phone, outcome.value, stats);
+        if p.is_some() {
+            if let Some(m) = outcome.method {
+                stats.phone_regions[m.index()] += 1;
+            }
+            if !outcome.verified {
+                stats.phone_unverified += 1;
+            }
+        }
         // The type only comes with a valid number (`count` may still reject the value).
         if p.is_some() && out.get(Attr::PhoneType).is_none() {
-            out.set(Attr::PhoneType, kind.map(|k| k.name().to_string()));
+            out.set(Attr::PhoneType, outcome.kind.map(|k| k.name().to_string()));
         }
         out.set(Attr::Phone, p);
     }
     if let Some(v) = take(raw, Attr::BirthDate, stats) {
         let d = count(
             Attr::BirthDate,
-            dates::normalize_date(v, conv.date_order),
+            dates::normalize_date(v, conv.date_order.for_record(country)),
             stats,
         );
         out.set(Attr::BirthDate, d);
@@ -658,8 +774,11 @@ mod tests {
             // The second pass reads ISO dates, which are year-first in any order.
             let twice = standardize(&once, &c, &mut StdStats::default());
             prop_assert_eq!(&twice, &once);
-            // Every valid phone carries its type.
-            prop_assert_eq!(once.get(Attr::Phone).is_some(), once.get(Attr::PhoneType).is_some());
+            // Every valid phone carries its type; unverified ones (marked) do not.
+            let valid = once
+                .get(Attr::Phone)
+                .is_some_and(|p| !p.ends_with(phone::UNVERIFIED_MARK));
+            prop_assert_eq!(valid, once.get(Attr::PhoneType).is_some());
         }
     }
 

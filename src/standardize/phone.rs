@@ -841,6 +841,275 @@ pub fn normalize_phone_typed(raw: &str, region: Option<&str>) -> (Cleaned, Optio
     }
 }
 
+/// How the region of a phone number written without its country code was decided, in
+/// the order the evidence is tried (the summary counts each).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum RegionMethod {
+    /// The number carries its country code (`+49 ...`, `0049 ...`, `011 49 ...`).
+    Written,
+    /// The record's own country column.
+    Country,
+    /// The country-code top-level domain of the record's e-mail address (`.de`, `.fr`,
+    /// `.co.uk`).
+    EmailDomain,
+    /// A postcode whose shape belongs to one country only (UK, Canada, the
+    /// Netherlands, ...).
+    Postcode,
+    /// The source's declared `country`.
+    Source,
+    /// One of the countries the spec's other sources declare.
+    SpecCountries,
+    /// No region could be decided: the digits are kept as written, unverified.
+    Undecided,
+}
+
+impl RegionMethod {
+    /// Every method, in the order they are tried.
+    pub const ALL: [RegionMethod; 7] = [
+        RegionMethod::Written,
+        RegionMethod::Country,
+        RegionMethod::EmailDomain,
+        RegionMethod::Postcode,
+        RegionMethod::Source,
+        RegionMethod::SpecCountries,
+        RegionMethod::Undecided,
+    ];
+
+    /// The name shown in the summary.
+    pub fn name(self) -> &'static str {
+        match self {
+            RegionMethod::Written => "written country code",
+            RegionMethod::Country => "country column",
+            RegionMethod::EmailDomain => "e-mail domain",
+            RegionMethod::Postcode => "postcode shape",
+            RegionMethod::Source => "source country",
+            RegionMethod::SpecCountries => "spec countries",
+            RegionMethod::Undecided => "undecided",
+        }
+    }
+
+    /// Position in [`RegionMethod::ALL`].
+    pub fn index(self) -> usize {
+        self as usize
+    }
+}
+
+/// A standardized phone number and what was decided about it.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct PhoneOutcome {
+    /// E.164 for valid numbers; E.164 with [`UNVERIFIED_MARK`] for numbers that are
+    /// possible (a length the numbering plan allows) but not valid; the digits as
+    /// written with the mark when no region could be decided; invalid otherwise.
+    pub value: Cleaned,
+    /// The number type of a valid number.
+    pub kind: Option<PhoneType>,
+    /// True for a number valid by the numbering plan.
+    pub verified: bool,
+    /// How the region was decided (for kept numbers).
+    pub method: Option<RegionMethod>,
+}
+
+/// Whether `national` has a length that numbers under country calling code `code` can
+/// have (libphonenumber's `isPossibleNumber` on the general descriptor's possible
+/// lengths; lengths only possible for local dialling are not enough here).
+pub fn is_possible_number(code: u16, national: &str) -> bool {
+    let Some(cc) = calling_code(code) else {
+        return false;
+    };
+    let len = national.len() as u16;
+    cc.entries.iter().any(|m| {
+        let general = m.descriptors().general().possible_length();
+        if general.is_empty() {
+            [m.descriptors().fixed_line(), m.descriptors().mobile()]
+                .into_iter()
+                .flatten()
+                .any(|d| d.possible_length().contains(&len))
+        } else {
+            general.contains(&len)
+        }
+    })
+}
+
+/// Country code and national number of a number in `+` form (separators and a written
+/// trunk prefix `(0)` allowed), without checking validity: the country code is the
+/// known 1-3 digit prefix (country codes are prefix-free, ITU-T E.164 §6.2.1); a
+/// leading `0` of the national number is a written trunk prefix where the code's main
+/// region uses `0`.
+fn split_international(plus: &str) -> Option<(u16, String)> {
+    let rest = plus.trim().strip_prefix('+')?;
+    if rest
+        .bytes()
+        .any(|b| !(b.is_ascii_digit() || b" -./()".contains(&b)))
+    {
+        return None;
+    }
+    let digits: String = rest.chars().filter(char::is_ascii_digit).collect();
+    let len = (1..=3.min(digits.len())).find(|&len| {
+        digits[..len]
+            .parse::<u16>()
+            .ok()
+            .and_then(calling_code)
+            .is_some()
+    })?;
+    let code: u16 = digits[..len].parse().ok()?;
+    let mut national = &digits[len..];
+    let trunk_zero = calling_code(code)
+        .and_then(|c| c.entries.first())
+        .is_some_and(|m| m.national_prefix() == Some("0"));
+    if trunk_zero {
+        national = national.strip_prefix('0').unwrap_or(national);
+    }
+    Some((code, national.to_string()))
+}
+
+/// Country code and national number of a nationally written number under `region`:
+/// the region's trunk prefix (`0`, NANP `1` before ten digits) removed. `None` when
+/// the input holds anything but digits and separators.
+fn split_national(raw: &str, region: &str) -> Option<(u16, String)> {
+    let meta = DATABASE.by_id(region)?;
+    if raw
+        .bytes()
+        .any(|b| !(b.is_ascii_digit() || b" -./()".contains(&b)))
+    {
+        return None;
+    }
+    let digits: String = raw.chars().filter(char::is_ascii_digit).collect();
+    let national = match meta.national_prefix() {
+        Some(p) if p == "1" => {
+            if digits.len() == 11 {
+                digits.strip_prefix('1').unwrap_or(&digits)
+            } else {
+                &digits
+            }
+        }
+        Some(p) => digits.strip_prefix(p).unwrap_or(&digits),
+        None => &digits,
+    };
+    Some((meta.country_code(), national.to_string()))
+}
+
+/// A possible but unverified number in its standardized form.
+fn unverified(code: u16, national: &str) -> Option<String> {
+    let e164 = format!("+{code}{national}");
+    (e164.len() - 1 <= E164_MAX_DIGITS && is_possible_number(code, national))
+        .then(|| format!("{e164}{UNVERIFIED_MARK}"))
+}
+
+/// Standardize a phone number with the regions the record's evidence suggests, best
+/// first (`candidates`: region and how it was found).
+///
+/// The number is read under each candidate region in turn; the first under which it is
+/// valid wins (a number with its own country code ignores the candidates). When it is
+/// valid under none, the first candidate under which it is *possible* (a length the
+/// region's numbering plan allows) gives an unverified number (`+CC...` and
+/// [`UNVERIFIED_MARK`]). Without any candidate region, a number of 7 to 15 digits is
+/// kept as its digits with the mark (`Undecided`); comparison can still use it.
+/// Anything else is invalid. Reading the standardized value again gives the same value.
+pub fn standardize_phone(raw: &str, candidates: &[(&str, RegionMethod)]) -> PhoneOutcome {
+    const INVALID: PhoneOutcome = PhoneOutcome {
+        value: Cleaned::Invalid,
+        kind: None,
+        verified: false,
+        method: None,
+    };
+    let raw = raw.trim();
+    let raw = raw.strip_suffix(UNVERIFIED_MARK).unwrap_or(raw).trim_end();
+    if raw.is_empty() {
+        return INVALID;
+    }
+    let valid = |cleaned: Cleaned, kind: Option<PhoneType>, method| PhoneOutcome {
+        value: cleaned,
+        kind,
+        verified: true,
+        method: Some(method),
+    };
+    let kept = |value: String, method| PhoneOutcome {
+        value: Cleaned::Repaired(value),
+        kind: None,
+        verified: false,
+        method: Some(method),
+    };
+    if raw.starts_with('+') {
+        let (cleaned, kind) = normalize_phone_typed(raw, None);
+        if kind.is_some() {
+            return valid(cleaned, kind, RegionMethod::Written);
+        }
+        return match split_international(raw).and_then(|(c, n)| unverified(c, &n)) {
+            Some(v) => kept(v, RegionMethod::Written),
+            None => INVALID,
+        };
+    }
+    for &(region, method) in candidates {
+        let (cleaned, kind) = normalize_phone_typed(raw, Some(region));
+        if kind.is_some() {
+            let method = if international_form(raw, Some(region)).is_some() {
+                RegionMethod::Written
+            } else {
+                method
+            };
+            return valid(cleaned, kind, method);
+        }
+    }
+    for &(region, method) in candidates {
+        let found = match international_form(raw, Some(region)) {
+            Some(plus) => split_international(&plus)
+                .and_then(|(c, n)| unverified(c, &n))
+                .map(|v| (v, RegionMethod::Written)),
+            None => split_national(raw, region)
+                .and_then(|(c, n)| unverified(c, &n))
+                .map(|v| (v, method)),
+        };
+        if let Some((v, m)) = found {
+            return kept(v, m);
+        }
+    }
+    let has_other = raw
+        .bytes()
+        .any(|b| !(b.is_ascii_digit() || b" -./()".contains(&b)));
+    let digits: String = raw.chars().filter(char::is_ascii_digit).collect();
+    if candidates.is_empty() && !has_other && (7..=E164_MAX_DIGITS).contains(&digits.len()) {
+        return kept(
+            format!("{digits}{UNVERIFIED_MARK}"),
+            RegionMethod::Undecided,
+        );
+    }
+    INVALID
+}
+
+/// Generic top-level domains that are country codes in name only, widely used by
+/// people anywhere (common practice, no source).
+const VANITY_TLDS: &[&str] = &[
+    "io", "co", "me", "tv", "ai", "ly", "fm", "to", "cc", "ws", "nu", "gg", "am", "im", "so", "vc",
+    "sh",
+];
+
+/// Second-level labels under which a country code top-level domain is used by that
+/// country (`yahoo.com.co`, `bbc.co.uk`).
+const COUNTRY_SLDS: &[&str] = &["com", "co", "net", "org", "gov", "edu", "ac", "gob", "nic"];
+
+/// The region of an e-mail address's country-code top-level domain (`.de` -> DE, `.uk`
+/// -> GB, IANA root zone), `None` for generic domains (`.com`, `.org`) and for
+/// country codes widely used as generic names (`.io`, `.co`, `.me`, `.tv`, ...).
+pub fn region_of_email(email: &str) -> Option<&'static str> {
+    let (_, domain) = email.rsplit_once('@')?;
+    let mut labels = domain.rsplit('.');
+    let tld = labels.next()?.to_ascii_lowercase();
+    let sld = labels.next().map(str::to_ascii_lowercase);
+    if tld.len() != 2 || !tld.bytes().all(|b| b.is_ascii_lowercase()) {
+        return None;
+    }
+    let national_sld = sld.as_deref().is_some_and(|l| COUNTRY_SLDS.contains(&l));
+    if VANITY_TLDS.contains(&tld.as_str()) && !national_sld {
+        return None;
+    }
+    let region = if tld == "uk" {
+        "GB".to_string()
+    } else {
+        tld.to_ascii_uppercase()
+    };
+    DATABASE.by_id(&region).map(|m| m.id())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -1518,5 +1787,111 @@ mod tests {
             rayon::current_num_threads(),
             n / par.as_secs_f64()
         );
+    }
+
+    #[test]
+    fn possible_but_invalid_numbers_are_kept_unverified() {
+        use RegionMethod as M;
+        let std = |raw: &str, regions: &[(&str, M)]| {
+            let o = standardize_phone(raw, regions);
+            (o.value.into_value(), o.verified, o.method)
+        };
+        // CHECK_VALUES.md §5 (Python phonenumbers 9.0.43): possible (IS_POSSIBLE) but
+        // not valid; E.164 as phonenumbers formats it.
+        assert_eq!(
+            std("07700 900123", &[("GB", M::Source)]),
+            (Some("+447700900123?".into()), false, Some(M::Source))
+        );
+        assert_eq!(
+            std("(123) 456-7890", &[("US", M::Country)]),
+            (Some("+11234567890?".into()), false, Some(M::Country))
+        );
+        // Valid numbers as before, with the method that decided the region.
+        assert_eq!(
+            std("020 7946 0018", &[("GB", M::Country)]),
+            (Some("+442079460018".into()), true, Some(M::Country))
+        );
+        assert_eq!(
+            std("+44 (0)20 7946 0018", &[("US", M::Source)]),
+            (Some("+442079460018".into()), true, Some(M::Written))
+        );
+        assert_eq!(
+            std("0049 30 12345678", &[("DE", M::Source)]),
+            (Some("+493012345678".into()), true, Some(M::Written))
+        );
+        // Not possible (phonenumbers: TOO_SHORT, TOO_LONG, IS_POSSIBLE_LOCAL_ONLY, which
+        // is not enough to compare): invalid.
+        for (raw, region) in [
+            ("12345678", "ES"),
+            ("+33 6 12 34 56 78 90", "FR"),
+            ("+1234567890123456", "US"),
+            ("555-1234", "US"),
+            ("+44 20 1234", "GB"),
+        ] {
+            assert_eq!(std(raw, &[(region, M::Source)]).0, None, "{raw}");
+        }
+        // No region at all: the digits, unverified.
+        assert_eq!(
+            std("06 12 34 56 78", &[]),
+            (Some("0612345678?".into()), false, Some(M::Undecided))
+        );
+        assert_eq!(std("12 34", &[]).0, None);
+    }
+
+    #[test]
+    fn region_from_the_first_candidate_where_the_number_is_valid() {
+        use RegionMethod as M;
+        // CHECK_VALUES.md §5: "06 12 34 56 78" is a valid FR mobile; under US it is not
+        // a valid number.
+        let o = standardize_phone(
+            "06 12 34 56 78",
+            &[("US", M::Source), ("FR", M::SpecCountries)],
+        );
+        assert_eq!(o.value.into_value().as_deref(), Some("+33612345678"));
+        assert_eq!((o.verified, o.method), (true, Some(M::SpecCountries)));
+        assert_eq!(o.kind, Some(PhoneType::Mobile));
+        let o = standardize_phone(
+            "06 12 34 56 78",
+            &[("FR", M::EmailDomain), ("US", M::Source)],
+        );
+        assert_eq!(o.method, Some(M::EmailDomain));
+    }
+
+    #[test]
+    fn standardized_numbers_read_back_the_same() {
+        use RegionMethod as M;
+        let regions = [("DE", M::Source), ("FR", M::SpecCountries)];
+        for raw in [
+            "0151 23456789",
+            "07700 900123",
+            "+44 7700 900123",
+            "0612345678",
+            "x",
+        ] {
+            let once = standardize_phone(raw, &regions).value.into_value();
+            if let Some(v) = &once {
+                let twice = standardize_phone(v, &regions).value.into_value();
+                assert_eq!(twice.as_ref(), Some(v), "{raw}");
+            }
+        }
+    }
+
+    #[test]
+    fn email_country_domains_and_postcode_shapes() {
+        // IANA root zone: .de Germany, .uk the United Kingdom (ISO code GB), .fr France.
+        assert_eq!(region_of_email("a@b.de"), Some("DE"));
+        assert_eq!(region_of_email("a@yahoo.co.uk"), Some("GB"));
+        assert_eq!(region_of_email("a@orange.fr"), Some("FR"));
+        assert_eq!(region_of_email("a@gmail.com"), None);
+        // Country codes widely used as generic names (common practice, no source).
+        assert_eq!(region_of_email("a@startup.io"), None);
+        assert_eq!(region_of_email("a@x.co"), None);
+        assert_eq!(region_of_email("a@yahoo.com.co"), Some("CO"));
+        assert_eq!(region_of_email("not an address"), None);
+        // Possible lengths, libphonenumber metadata (phonenumbers 9.0.43 agrees:
+        // "07700 900123" GB is IS_POSSIBLE with 10 national digits).
+        assert!(is_possible_number(44, "7700900123"));
+        assert!(!is_possible_number(44, "201234"));
+        assert!(!is_possible_number(999, "1234567"));
     }
 }
