@@ -975,7 +975,7 @@ fn split_national(raw: &str, region: &str) -> Option<(u16, String)> {
     }
     let digits: String = raw.chars().filter(char::is_ascii_digit).collect();
     let national = match meta.national_prefix() {
-        Some(p) if p == "1" => {
+        Some("1") => {
             if digits.len() == 11 {
                 digits.strip_prefix('1').unwrap_or(&digits)
             } else {
