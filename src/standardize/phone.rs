@@ -988,11 +988,17 @@ fn split_national(raw: &str, region: &str) -> Option<(u16, String)> {
     Some((meta.country_code(), national.to_string()))
 }
 
-/// A possible but unverified number in its standardized form.
-fn unverified(code: u16, national: &str) -> Option<String> {
+/// A number given as country code and national number in its standardized form: E.164
+/// with its type when valid, else E.164 with [`UNVERIFIED_MARK`] when possible.
+fn decided(code: u16, national: &str) -> Option<(String, Option<PhoneType>)> {
     let e164 = format!("+{code}{national}");
-    (e164.len() - 1 <= E164_MAX_DIGITS && is_possible_number(code, national))
-        .then(|| format!("{e164}{UNVERIFIED_MARK}"))
+    if e164.len() - 1 > E164_MAX_DIGITS {
+        return None;
+    }
+    if let Some(kind) = number_type(code, national) {
+        return Some((e164, Some(kind)));
+    }
+    is_possible_number(code, national).then(|| (format!("{e164}{UNVERIFIED_MARK}"), None))
 }
 
 /// Standardize a phone number with the regions the record's evidence suggests, best
@@ -1023,10 +1029,10 @@ pub fn standardize_phone(raw: &str, candidates: &[(&str, RegionMethod)]) -> Phon
         verified: true,
         method: Some(method),
     };
-    let kept = |value: String, method| PhoneOutcome {
+    let kept = |(value, kind): (String, Option<PhoneType>), method| PhoneOutcome {
         value: Cleaned::Repaired(value),
-        kind: None,
-        verified: false,
+        verified: kind.is_some(),
+        kind,
         method: Some(method),
     };
     if raw.starts_with('+') {
@@ -1034,7 +1040,7 @@ pub fn standardize_phone(raw: &str, candidates: &[(&str, RegionMethod)]) -> Phon
         if kind.is_some() {
             return valid(cleaned, kind, RegionMethod::Written);
         }
-        return match split_international(raw).and_then(|(c, n)| unverified(c, &n)) {
+        return match split_international(raw).and_then(|(c, n)| decided(c, &n)) {
             Some(v) => kept(v, RegionMethod::Written),
             None => INVALID,
         };
@@ -1053,10 +1059,10 @@ pub fn standardize_phone(raw: &str, candidates: &[(&str, RegionMethod)]) -> Phon
     for &(region, method) in candidates {
         let found = match international_form(raw, Some(region)) {
             Some(plus) => split_international(&plus)
-                .and_then(|(c, n)| unverified(c, &n))
+                .and_then(|(c, n)| decided(c, &n))
                 .map(|v| (v, RegionMethod::Written)),
             None => split_national(raw, region)
-                .and_then(|(c, n)| unverified(c, &n))
+                .and_then(|(c, n)| decided(c, &n))
                 .map(|v| (v, method)),
         };
         if let Some((v, m)) = found {
@@ -1069,7 +1075,7 @@ pub fn standardize_phone(raw: &str, candidates: &[(&str, RegionMethod)]) -> Phon
     let digits: String = raw.chars().filter(char::is_ascii_digit).collect();
     if candidates.is_empty() && !has_other && (7..=E164_MAX_DIGITS).contains(&digits.len()) {
         return kept(
-            format!("{digits}{UNVERIFIED_MARK}"),
+            (format!("{digits}{UNVERIFIED_MARK}"), None),
             RegionMethod::Undecided,
         );
     }
