@@ -81,21 +81,26 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         Progress::bar(opts.progress, stage, total, "pairs")
     };
 
+    // Counts of comparison vectors, for fitting and for `--target-precision`.
+    let count_vectors = || {
+        let bar = pair_bar("compare (count vectors)");
+        let c = model::train::count_patterns(
+            spec,
+            &p.table,
+            &p.blocking,
+            &p.comparison,
+            &p.tasks,
+            &bar,
+        );
+        bar.finish();
+        c
+    };
     let mut clock = Instant::now();
     let mut counts = None;
     let (model, fitted) = match loaded_model {
         Some(m) => (m, false),
         None => {
-            let bar = pair_bar("compare (count vectors)");
-            let c = model::train::count_patterns(
-                spec,
-                &p.table,
-                &p.blocking,
-                &p.comparison,
-                &p.tasks,
-                &bar,
-            )?;
-            bar.finish();
+            let c = count_vectors()?;
             clock = t.record("compare (count vectors)", clock);
             let spin = Progress::spinner(opts.progress, "fit (EM)");
             let m = model::train::fit_counts(spec, &p.table, &p.comparison, &c)?;
@@ -113,19 +118,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     if let Some(target) = opts.target_precision {
         let c = match counts {
             Some(c) => c,
-            None => {
-                let bar = pair_bar("compare (count vectors)");
-                let c = model::train::count_patterns(
-                    spec,
-                    &p.table,
-                    &p.blocking,
-                    &p.comparison,
-                    &p.tasks,
-                    &bar,
-                )?;
-                bar.finish();
-                c
-            }
+            None => count_vectors()?,
         };
         let decider = threshold_for_target(scorer.decider(), scorer.model_scorer(), &c, target)?;
         scorer.set_decider(decider);
