@@ -4,6 +4,7 @@ mod bad_input;
 mod cli;
 mod common;
 mod contract;
+mod dbsources;
 mod durable;
 mod evaluate;
 mod exit_codes;

@@ -6,7 +6,9 @@
 //! standardized, chunk k+1 is read and chunk k-1 interned (each column on its own). Rows that cannot be used (ragged rows, invalid UTF-8, empty ids)
 //! become [`Reject`]s with source, line and reason; nothing is dropped silently. A file
 //! that is unusable as a whole (missing, empty, unknown column, duplicate ids) is an
-//! error naming the file and what would fix it.
+//! error naming the file and what would fix it. A source can also be a table or query
+//! in a SQLite or PostgreSQL database ([`database`]), read in batches through the same
+//! standardization.
 
 use std::io::Read;
 use std::path::{Path, PathBuf};
@@ -28,6 +30,7 @@ use crate::standardize::{standardize, Conventions, NameOrder, StdStats};
 use crate::util::cpu::thread_cpu;
 use crate::util::Progress;
 
+pub mod database;
 mod encoding;
 pub use encoding::Encoding;
 
@@ -95,6 +98,9 @@ pub struct SourceSpec {
     pub conventions: Conventions,
     /// Standard attribute → CSV header.
     pub columns: Vec<(Attr, String)>,
+    /// Set for a source read from a database table or query instead of a CSV file
+    /// (`path`, `delimiter` and `encoding` are then unused).
+    pub database: Option<database::Database>,
 }
 
 impl SourceSpec {
@@ -195,6 +201,10 @@ pub fn learn_name_frequencies(sources: &[SourceSpec]) -> Result<NameFrequencies>
         else {
             continue;
         };
+        if src.database.is_some() {
+            database::add_name_frequencies(src, given, family, &mut freqs)?;
+            continue;
+        }
         let path = src.path.as_path();
         let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
         let mut reader = csv::ReaderBuilder::new()
@@ -395,6 +405,9 @@ fn load_source(
     progress: &Progress,
     chunking: &mut Chunking,
 ) -> Result<SourceReport> {
+    if src.database.is_some() {
+        return database::load_source(src, index, builder, rejects, totals, progress, chunking);
+    }
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
     let file_bytes = file.metadata().map_or(0, |m| m.len());
@@ -498,6 +511,9 @@ fn load_source(
 /// `src`, as written in the file (trimmed), or `None` when no usable row has that id.
 /// Reads the file from the start; meant for looking at single records (`explain`).
 pub fn raw_values(src: &SourceSpec, id: &str) -> Result<Option<Vec<(Attr, String)>>> {
+    if src.database.is_some() {
+        return database::raw_values(src, id);
+    }
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
     let mut reader = csv::ReaderBuilder::new()

@@ -1,9 +1,9 @@
 //! Linkage spec: one TOML file in, a validated [`Spec`] out.
 //!
-//! The spec names the sources (CSV path, id column, column → attribute mapping and
-//! per-source conventions), the comparison levels per attribute, the blocking keys, the
-//! decision thresholds and the model settings. Every key is documented in the
-//! README.
+//! The spec names the sources (CSV path or database table/query, id column, column →
+//! attribute mapping and per-source conventions), the comparison levels per attribute,
+//! the blocking keys, the decision thresholds and the model settings. Every key is
+//! documented in the README.
 //!
 //! Two steps: serde reads the TOML into the raw form ([`raw`]), structs that name every
 //! key and keep each value as written; the resolve step checks it into the resolved

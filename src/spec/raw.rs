@@ -132,6 +132,12 @@ pub struct RawSource {
     pub encoding: Option<Loose<String>>,
     /// Attribute → header.
     pub columns: Option<Loose<BTreeMap<String, Loose<String>>>>,
+    /// A database instead of a CSV file: a SQLite file or a `postgres://` URL.
+    pub connection: Option<Loose<String>>,
+    /// The table to read from the database.
+    pub table: Option<Loose<String>>,
+    /// Or a read-only query to run on the database.
+    pub query: Option<Loose<String>>,
 }
 
 /// One `[[compare]]` entry.
@@ -199,6 +205,9 @@ impl RawTable for RawSource {
     const KEYS: &'static [&'static str] = &[
         "name",
         "path",
+        "connection",
+        "table",
+        "query",
         "id",
         "country",
         "date_order",

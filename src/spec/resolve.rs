@@ -15,6 +15,7 @@ use crate::block::{BlockSpec, KeyPart, KEY_HELP};
 use crate::compare::{CompareSpec, Level, LEVEL_HELP, MAX_DECLARED_LEVELS};
 use crate::error::{Error, Result};
 use crate::record::Attr;
+use crate::sources::database::Database;
 use crate::sources::{Encoding, SourceSpec};
 use crate::standardize::{default_country, Conventions, DateOrder, NameOrder};
 
@@ -292,7 +293,7 @@ impl Resolver {
                 format!("`{name}`: use letters, digits, `_` and `-` only"),
             ));
         }
-        let path = dir.join(self.req_string(&s.path, at, "path")?);
+        let (path, database) = self.origin(s, at, dir)?;
         let id_column = self.req_string(&s.id, at, "id")?.to_string();
         let country = match self.string(&s.country, at, "country")? {
             None => None,
@@ -409,7 +410,74 @@ impl Resolver {
                 ..Default::default()
             },
             columns,
+            database,
         })
+    }
+
+    /// Where a source's rows come from: a CSV file (`path`), or a database
+    /// (`connection` with `table` or `query`).
+    fn origin(&self, s: &RawSource, at: &str, dir: &Path) -> Result<(PathBuf, Option<Database>)> {
+        let connection = self.string(&s.connection, at, "connection")?;
+        let table = self.string(&s.table, at, "table")?;
+        let query = self.string(&s.query, at, "query")?;
+        if connection.is_none() {
+            for (k, v) in [("table", table), ("query", query)] {
+                if v.is_some() {
+                    return Err(self.err(
+                        join(at, k),
+                        "only applies to a database source; add `connection` (a SQLite file \
+                         or a postgres:// URL) and remove `path`",
+                    ));
+                }
+            }
+            if s.path.is_none() {
+                return Err(self.err(
+                    join(at, "path"),
+                    "is required: the CSV file, relative to the spec's folder (or give \
+                     `connection` with `table` or `query` to read a database)",
+                ));
+            }
+            return Ok((dir.join(self.req_string(&s.path, at, "path")?), None));
+        }
+        if s.path.is_some() {
+            return Err(self.err(
+                join(at, "path"),
+                "a source reads a CSV file (`path`) or a database (`connection`), not both; \
+                 remove one",
+            ));
+        }
+        for (k, v) in [("delimiter", &s.delimiter), ("encoding", &s.encoding)] {
+            if v.is_some() {
+                return Err(self.err(
+                    join(at, k),
+                    "only applies to a CSV source (`path`); remove it for a database source",
+                ));
+            }
+        }
+        let connection = self.req_string(&s.connection, at, "connection")?;
+        let table = match table {
+            Some(_) => Some(self.req_string(&s.table, at, "table")?.trim().to_string()),
+            None => None,
+        };
+        let query = match query {
+            Some(_) => Some(self.req_string(&s.query, at, "query")?.to_string()),
+            None => None,
+        };
+        match (&table, &query) {
+            (Some(_), Some(_)) => {
+                return Err(self.err(join(at, "query"), "give `table` or `query`, not both"))
+            }
+            (None, None) => {
+                return Err(self.err(
+                    join(at, "table"),
+                    "is required with `connection`: name a table, or give a read-only `query`",
+                ))
+            }
+            _ => {}
+        }
+        let db = Database::from_spec(connection, dir, table, query)
+            .map_err(|m| self.err(join(at, "connection"), m))?;
+        Ok((PathBuf::new(), Some(db)))
     }
 
     fn compare(&self, c: &Keyed<RawCompare>, at: &str) -> Result<CompareSpec> {

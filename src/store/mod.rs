@@ -804,4 +804,4 @@ mod tests {
 }
 
 #[cfg(test)]
-mod tests_backends;
+pub(crate) mod tests_backends;

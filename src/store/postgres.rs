@@ -59,7 +59,7 @@ impl Postgres {
 }
 
 /// The error with its causes (the driver's Display leaves the server's text out).
-fn full_message(e: &postgres::Error) -> String {
+pub(crate) fn full_message(e: &postgres::Error) -> String {
     let mut parts = vec![e.to_string()];
     let mut cause = std::error::Error::source(e);
     while let Some(c) = cause {
