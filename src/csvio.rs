@@ -24,9 +24,102 @@ pub fn clean_header(index: usize, field: &str) -> String {
     field.trim().to_string()
 }
 
-/// The position of the column named `wanted` in a cleaned header (exact match).
-pub fn find_header(headers: &[String], wanted: &str) -> Option<usize> {
-    headers.iter().position(|h| h == wanted)
+/// The position of the column named `wanted` in a cleaned header (exact match): `None`
+/// when no column has that name. Two columns of that name are an error (the message says
+/// which columns and what to do), since either could be the one meant.
+pub fn find_header(headers: &[String], wanted: &str) -> std::result::Result<Option<usize>, String> {
+    let mut at = headers
+        .iter()
+        .enumerate()
+        .filter(|(_, h)| *h == wanted)
+        .map(|(i, _)| i);
+    let Some(first) = at.next() else {
+        return Ok(None);
+    };
+    let others: Vec<usize> = at.collect();
+    if others.is_empty() {
+        return Ok(Some(first));
+    }
+    let columns: Vec<String> = std::iter::once(first)
+        .chain(others)
+        .map(|i| (i + 1).to_string())
+        .collect();
+    let times = match columns.len() {
+        2 => "twice".to_owned(),
+        n => format!("{n} times"),
+    };
+    Err(format!(
+        "column `{wanted}` appears {times} in the header (columns {}); rename all but one so \
+         it is clear which to read",
+        columns.join(" and ")
+    ))
+}
+
+/// Longest value accepted in a column samekey reads, in bytes: no name, address, e-mail
+/// (at most 254 octets by RFC 5321's path limit, from memory), phone or id comes near it,
+/// while an opening quote without its closing quote makes one field of everything up to
+/// the next quote.
+pub const MAX_FIELD_BYTES: usize = 2048;
+
+/// Most line breaks a value of a column samekey reads may hold: a written-out address
+/// takes a few lines, more is a quote left open (common practice, no source).
+pub const MAX_FIELD_LINE_BREAKS: usize = 4;
+
+/// Why a row read as `fields` (the header is `headers`, the row starts on `line`) looks
+/// like an opening quote without its closing quote, or `None` when it does not: a field
+/// with a line break followed by a line that holds a whole row (as many delimiters as the
+/// header has, less one; at least two), or, in a column that `read` marks (all columns
+/// when `None`), a field longer than [`MAX_FIELD_BYTES`] or with more than
+/// [`MAX_FIELD_LINE_BREAKS`] line breaks. Columns that are not read may hold long notes.
+/// The reason names the field, its column and the lines it spans.
+pub fn unclosed_quote<'a>(
+    fields: impl IntoIterator<Item = &'a [u8]>,
+    headers: &[String],
+    delimiter: u8,
+    line: u64,
+    read: Option<&[bool]>,
+) -> Option<String> {
+    let row_delimiters = headers.len().saturating_sub(1).max(2);
+    let mut start = line;
+    for (i, f) in fields.into_iter().enumerate() {
+        let name = headers.get(i).map_or("(none)", String::as_str);
+        let breaks = f.iter().filter(|&&b| b == b'\n').count();
+        // A field that runs to the end of the file ends with the file's last line break.
+        let content = f.len()
+            - f.iter()
+                .rev()
+                .take_while(|&&b| b == b'\n' || b == b'\r')
+                .count();
+        let end = start + f[..content].iter().filter(|&&b| b == b'\n').count() as u64;
+        let holds_row = breaks > 0
+            && f.split(|&b| b == b'\n')
+                .skip(1)
+                .any(|l| l.iter().filter(|&&b| b == delimiter).count() >= row_delimiters);
+        let limited = read.is_none_or(|r| r.get(i).copied().unwrap_or(false));
+        if holds_row || (limited && breaks > MAX_FIELD_LINE_BREAKS) {
+            return Some(format!(
+                "unclosed quote: field {} (column `{name}`) spans lines {start} to {end}{}; a \
+                 field that opens with `\"` must close with `\"` (lines {start} to {end} were \
+                 read as this one row)",
+                i + 1,
+                if holds_row {
+                    " and holds whole rows"
+                } else {
+                    ""
+                },
+            ));
+        }
+        if limited && f.len() > MAX_FIELD_BYTES {
+            return Some(format!(
+                "field {} (column `{name}`) is {} bytes long (at most {MAX_FIELD_BYTES}): an \
+                 unclosed quote, or a value that is not a customer attribute",
+                i + 1,
+                f.len()
+            ));
+        }
+        start += breaks as u64;
+    }
+    None
 }
 
 /// An input CSV file with a header row, read row by row.
@@ -47,6 +140,7 @@ impl CsvTable {
             } else {
                 csv::Trim::None
             })
+            .flexible(true)
             .from_reader(file);
         let headers = rdr
             .headers()
@@ -82,7 +176,9 @@ impl CsvTable {
         wanted
             .iter()
             .map(|w| {
-                find_header(&self.headers, w).ok_or_else(|| {
+                let at = find_header(&self.headers, w)
+                    .map_err(|e| Error::input(&self.path, format!("line 1: {e}")))?;
+                at.ok_or_else(|| {
                     let found = if self.headers.iter().all(String::is_empty) {
                         "no header (empty file?)".to_owned()
                     } else {
@@ -100,7 +196,9 @@ impl CsvTable {
             .collect()
     }
 
-    /// Calls `f(line, row)` for every data row (the header is line 1).
+    /// Calls `f(line, row)` for every data row (the header is line 1). A row whose
+    /// field count differs from the header's, or that looks like an unclosed quote
+    /// ([`unclosed_quote`]), is an error naming the line.
     pub fn for_each_row(
         &mut self,
         mut f: impl FnMut(u64, &csv::StringRecord) -> Result<()>,
@@ -118,6 +216,24 @@ impl CsvTable {
                 }
             }
             let line = row.position().map_or(0, |p| p.line());
+            let whole = row.as_slice();
+            if whole.len() > MAX_FIELD_BYTES || whole.contains('\n') {
+                let fields = row.iter().map(str::as_bytes);
+                if let Some(reason) = unclosed_quote(fields, &self.headers, b',', line, None) {
+                    return Err(Error::input(&self.path, format!("line {line}: {reason}")));
+                }
+            }
+            if row.len() != self.headers.len() {
+                return Err(Error::input(
+                    &self.path,
+                    format!(
+                        "line {line}: the row has {} fields, the header has {}; check quoting \
+                         and delimiters",
+                        row.len(),
+                        self.headers.len()
+                    ),
+                ));
+            }
             f(line, &row)?;
         }
     }
@@ -252,5 +368,118 @@ mod tests {
         assert!(e.to_string().contains("line 3: empty `name`"), "{e}");
         let missing = CsvTable::open(&dir.path().join("none.csv"), true).unwrap_err();
         assert!(missing.is_bad_input());
+    }
+
+    #[test]
+    fn a_column_named_twice_is_an_error_naming_both() {
+        let h: Vec<String> = ["id", "name", "x", "name", "y", "y", "y"]
+            .map(String::from)
+            .to_vec();
+        assert_eq!(find_header(&h, "id"), Ok(Some(0)));
+        assert_eq!(find_header(&h, "x"), Ok(Some(2)));
+        assert_eq!(find_header(&h, "z"), Ok(None));
+        let e = find_header(&h, "name").unwrap_err();
+        assert!(
+            e.contains("`name` appears twice") && e.contains("columns 2 and 4"),
+            "{e}"
+        );
+        let e = find_header(&h, "y").unwrap_err();
+        assert!(
+            e.contains("3 times") && e.contains("columns 5 and 6 and 7"),
+            "{e}"
+        );
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("truth.csv");
+        std::fs::write(&p, "source,source_id,entity_id,source\ncrm,1,e1,crm\n").unwrap();
+        let t = CsvTable::open(&p, true).unwrap();
+        let e = t.columns(&["source", "source_id"]).unwrap_err();
+        assert!(e.is_bad_input());
+        let e = e.to_string();
+        assert!(
+            e.contains("truth.csv") && e.contains("line 1: column `source` appears twice"),
+            "{e}"
+        );
+        // A repeated column that is not read is no error.
+        assert_eq!(t.columns(&["source_id", "entity_id"]).unwrap(), vec![1, 2]);
+    }
+
+    #[test]
+    fn an_unclosed_quote_is_an_error_with_its_lines() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("truth.csv");
+        std::fs::write(
+            &p,
+            "source,source_id,entity_id\ncrm,1,e1\ncrm,\"2,e2\ncrm,3,e3\ncrm,4,e4\n",
+        )
+        .unwrap();
+        let mut t = CsvTable::open(&p, true).unwrap();
+        let mut seen = Vec::new();
+        let e = t
+            .for_each_row(|line, _| {
+                seen.push(line);
+                Ok(())
+            })
+            .unwrap_err();
+        assert_eq!(seen, vec![2]);
+        assert!(e.is_bad_input());
+        let e = e.to_string();
+        assert!(
+            e.contains("truth.csv")
+                && e.contains(
+                    "line 3: unclosed quote: field 2 (column `source_id`) spans lines 3 to 5"
+                ),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn fields_that_look_like_an_unclosed_quote() {
+        let h: Vec<String> = ["id", "name", "street", "city"].map(String::from).to_vec();
+        let check = |fields: &[&str]| {
+            unclosed_quote(fields.iter().map(|f| f.as_bytes()), &h, b',', 10, None)
+        };
+        // Plain rows and a written-out address over a few lines are fine.
+        assert_eq!(check(&["1", "Ann", "12 High St", "Town"]), None);
+        assert_eq!(
+            check(&["1", "Ann", "Flat 2\n12 High St\nEast, Side", "Town"]),
+            None
+        );
+        // A swallowed row: the line after a break holds as many delimiters as a row.
+        let r = check(&["1", "Ann, 12 High St,Town\n2,Bob,3 Low Rd,City\n", "", ""]).unwrap();
+        assert!(
+            r.contains("field 2 (column `name`) spans lines 10 to 11 and holds whole rows"),
+            "{r}"
+        );
+        // Line numbers count the breaks of the fields before.
+        let r = check(&["1", "a\nb", "x\ny\nz\nw\nv\nu", ""]).unwrap();
+        assert!(
+            r.contains("field 3 (column `street`) spans lines 11 to 16"),
+            "{r}"
+        );
+        let long = "x".repeat(MAX_FIELD_BYTES + 1);
+        let r = check(&["1", "Ann", &long, ""]).unwrap();
+        assert!(
+            r.contains("field 3 (column `street`) is 2049 bytes long"),
+            "{r}"
+        );
+        assert_eq!(check(&["1", "Ann", &long[1..], ""]), None);
+        // A long note or many lines in a column that is not read are no sign.
+        let read = [true, true, false, true];
+        let with = |fields: &[&str]| {
+            unclosed_quote(
+                fields.iter().map(|f| f.as_bytes()),
+                &h,
+                b',',
+                10,
+                Some(&read),
+            )
+        };
+        assert_eq!(with(&["1", "Ann", &long, ""]), None);
+        assert_eq!(with(&["1", "Ann", "a\nb\nc\nd\ne\nf\ng", ""]), None);
+        assert!(with(&["1", "Ann", "a\n2,Bob,x,y", ""]).is_some());
+        assert!(with(&["1", "Ann", "", &long]).is_some());
+        // More fields than headers: named as such, no panic.
+        let r = check(&["1", "", "", "", &long]).unwrap();
+        assert!(r.contains("field 5 (column `(none)`)"), "{r}");
     }
 }

@@ -275,6 +275,8 @@ struct SourceReader<'a> {
     id_at: usize,
     /// Mapped columns: attribute and field index.
     mapped: Vec<(Attr, usize)>,
+    /// Per column of the header, whether it is read (the id or a mapped column).
+    read: Vec<bool>,
     record: csv::ByteRecord,
     report: SourceReport,
     rejects: Vec<Reject>,
@@ -332,6 +334,16 @@ impl SourceReader<'_> {
         self.report.rows += 1;
         let record = &self.record;
         let line = record.position().map_or(line_before, |p| p.line());
+        let slice = record.as_slice();
+        if slice.len() > crate::csvio::MAX_FIELD_BYTES || slice.contains(&b'\n') {
+            let (delimiter, read) = (self.src.delimiter, Some(self.read.as_slice()));
+            if let Some(reason) =
+                crate::csvio::unclosed_quote(record.iter(), &self.headers, delimiter, line, read)
+            {
+                self.reject(line, reason);
+                return;
+            }
+        }
         if record.len() != self.headers.len() {
             let reason = format!(
                 "row has {} fields, the header has {}; check quoting and delimiters",
@@ -386,6 +398,15 @@ impl SourceReader<'_> {
     }
 }
 
+/// Per column of a header of `n` columns, whether it is the id or a mapped column.
+fn read_columns(n: usize, id_at: usize, mapped: &[(Attr, usize)]) -> Vec<bool> {
+    let mut read = vec![false; n];
+    for at in std::iter::once(id_at).chain(mapped.iter().map(|&(_, at)| at)) {
+        read[at] = true;
+    }
+    read
+}
+
 /// True when every field of `record` starts and ends on a character boundary of
 /// `whole`, the record's bytes as a string.
 fn all_on_char_boundaries(record: &csv::ByteRecord, whole: &str) -> bool {
@@ -430,6 +451,7 @@ fn load_source(
     let mut input = SourceReader {
         src,
         reader,
+        read: read_columns(headers.len(), id_at, &mapped),
         headers,
         id_at,
         mapped,
@@ -531,6 +553,7 @@ pub fn raw_values(src: &SourceSpec, id: &str) -> Result<Option<Vec<(Attr, String
     let mut input = SourceReader {
         src,
         reader,
+        read: read_columns(headers.len(), id_at, &mapped),
         headers,
         id_at,
         mapped,
@@ -738,7 +761,13 @@ fn find_column(
     source: &str,
     role: &str,
 ) -> Result<usize> {
-    crate::csvio::find_header(headers, wanted).ok_or_else(|| {
+    let at = crate::csvio::find_header(headers, wanted).map_err(|e| {
+        Error::input(
+            path,
+            format!("line 1: {e} (the spec reads it as the {role} column of source `{source}`)"),
+        )
+    })?;
+    at.ok_or_else(|| {
         Error::input(
             path,
             format!(
@@ -850,6 +879,67 @@ keys = ["family_name"]
         let spec = spec_for(dir.path(), b"id,last,mail\n1,A,\n2,B,\n1,C,\n");
         let err = load(&spec.sources).unwrap_err().to_string();
         assert!(err.contains("`1` (lines 2 and 4)"), "{err}");
+    }
+
+    #[test]
+    fn a_mapped_column_named_twice_is_an_error() {
+        let dir = tempfile::tempdir().unwrap();
+        let spec = spec_for(dir.path(), b"id,last,mail,last\n1,Smith,a@x.org,Jones\n");
+        let err = load(&spec.sources).unwrap_err();
+        assert!(err.is_bad_input());
+        let err = err.to_string();
+        assert!(
+            err.contains("a.csv")
+                && err.contains(
+                    "line 1: column `last` appears twice in the header (columns 2 and 4)"
+                )
+                && err.contains("family_name column of source `a`"),
+            "{err}"
+        );
+        // An unread column named twice does not matter.
+        let spec = spec_for(dir.path(), b"id,last,mail,note,note\n1,Smith,a@x.org,,\n");
+        assert_eq!(load(&spec.sources).unwrap().table.len(), 1);
+    }
+
+    #[test]
+    fn an_unclosed_quote_is_rejected_with_its_lines() {
+        let dir = tempfile::tempdir().unwrap();
+        let spec = spec_for(
+            dir.path(),
+            b"id,last,mail\n1,Smith,a@x.org\n2,\"Jones,j@x.org\n3,Brown,b@x.org\n4,Green,g@x.org\n",
+        );
+        let got = load(&spec.sources).unwrap();
+        assert_eq!(got.table.id, vec!["1"]);
+        assert_eq!(got.rejects.len(), 1, "{:?}", got.rejects);
+        assert_eq!(got.rejects[0].line, 3);
+        let reason = &got.rejects[0].reason;
+        assert!(
+            reason.contains("unclosed quote: field 2 (column `last`) spans lines 3 to 5"),
+            "{reason}"
+        );
+        // A quoted address over two lines is a value, not an unclosed quote.
+        let spec = spec_for(
+            dir.path(),
+            b"id,last,mail\n1,\"Smith\nJr\",a@x.org\n2,Jones,j@x.org\n",
+        );
+        let got = load(&spec.sources).unwrap();
+        assert_eq!(got.table.id, vec!["1", "2"]);
+        assert!(got.rejects.is_empty(), "{:?}", got.rejects);
+    }
+
+    #[test]
+    fn a_field_too_long_is_rejected() {
+        let dir = tempfile::tempdir().unwrap();
+        let long = "x".repeat(crate::csvio::MAX_FIELD_BYTES + 10);
+        let csv = format!("id,last,mail\n1,{long},a@x.org\n2,Jones,j@x.org\n");
+        let spec = spec_for(dir.path(), csv.as_bytes());
+        let got = load(&spec.sources).unwrap();
+        assert_eq!(got.table.id, vec!["2"]);
+        assert!(
+            got.rejects[0].reason.contains("2058 bytes long"),
+            "{:?}",
+            got.rejects
+        );
     }
 
     #[test]
