@@ -179,8 +179,11 @@ pub struct Kept {
     pub weight: f64,
 }
 
+/// The pairs of `kb` that `keep` accepts, all of them counted when the key has at most
+/// `exact_up_to` pairs, else `sample` pairs drawn.
 fn kept_pairs(
     kb: &KeyBlocks,
+    exact_up_to: u64,
     sample: usize,
     rng: &mut Rng,
     keep: impl Fn(u32, u32) -> bool,
@@ -188,7 +191,7 @@ fn kept_pairs(
     let s = PairSampler::new(kb);
     let total = s.total();
     let mut pairs = Vec::new();
-    if total <= EXACT_PAIRS.max(sample as u64) {
+    if total <= exact_up_to {
         s.each(|a, b| {
             if keep(a, b) {
                 pairs.push((a, b));
@@ -221,12 +224,21 @@ fn joins(kb: &KeyBlocks, a: u32, b: u32) -> bool {
 
 /// Per key, the pairs it adds to the earlier keys (what `link` compares for it).
 pub fn new_pairs(blocking: &Blocking, sample: usize, seed: u64) -> Vec<Kept> {
+    new_pairs_up_to(blocking, EXACT_PAIRS.max(sample as u64), sample, seed)
+}
+
+/// [`new_pairs`], counting exactly the keys with at most `exact_up_to` pairs.
+fn new_pairs_up_to(blocking: &Blocking, exact_up_to: u64, sample: usize, seed: u64) -> Vec<Kept> {
     let mut rng = Rng::new(seed);
     blocking
         .keys
         .iter()
         .enumerate()
-        .map(|(k, kb)| kept_pairs(kb, sample, &mut rng, |a, b| !blocking.seen_before(k, a, b)))
+        .map(|(k, kb)| {
+            kept_pairs(kb, exact_up_to, sample, &mut rng, |a, b| {
+                !blocking.seen_before(k, a, b)
+            })
+        })
         .collect()
 }
 
@@ -378,7 +390,8 @@ fn model_view(
             }
         };
         let kb = &built.keys[0];
-        let kept = kept_pairs(kb, args.sample, &mut rng, |a, b| {
+        let exact_up_to = EXACT_PAIRS.max(args.sample as u64);
+        let kept = kept_pairs(kb, exact_up_to, args.sample, &mut rng, |a, b| {
             !p.blocking.seen_before(n_keys, a, b)
         });
         let added: f64 = kept
@@ -612,5 +625,51 @@ mod tests {
         let z = Count::sampled(0, 100, 1000);
         assert_eq!(z.lo, 0.0);
         assert!(z.hi > 0.0 && z.hi < 50.0, "{z:?}");
+    }
+
+    /// The blocks of a key that gives record `r` the key id `id(r)`.
+    fn key(name: &str, n: u32, id: impl Fn(u32) -> u32) -> KeyBlocks {
+        let key_of: Vec<u32> = (0..n).map(&id).collect();
+        let blocks = key_of.iter().copied().max().map_or(0, |m| m as usize + 1);
+        let mut members = Vec::new();
+        let mut offsets = vec![0];
+        for b in 0..blocks as u32 {
+            members.extend((0..n).filter(|&r| key_of[r as usize] == b));
+            offsets.push(members.len() as u32);
+        }
+        KeyBlocks {
+            name: name.into(),
+            key_of,
+            offsets,
+            members,
+            values: (0..blocks).map(|b| b.to_string()).collect(),
+        }
+    }
+
+    #[test]
+    fn sampled_new_pairs_agree_with_the_exact_count() {
+        // Two overlapping keys on 3000 records: residues mod 50 and mod 12. A pair of the
+        // second key is new unless it also agrees mod 50, i.e. mod 300 (the least common
+        // multiple): exactly 12 * C(250, 2) - 300 * C(10, 2) = 373,500 - 13,500 = 360,000 new pairs.
+        let blocking = Blocking {
+            keys: vec![key("a", 3000, |r| r % 50), key("b", 3000, |r| r % 12)],
+        };
+        let exact = new_pairs_up_to(&blocking, u64::MAX, 10_000, 7);
+        assert_eq!(exact[0].count, Count::exact(50 * 1770));
+        assert_eq!(exact[1].count, Count::exact(360_000));
+        for seed in [1, 2, 3] {
+            let sampled = new_pairs_up_to(&blocking, 0, 10_000, seed);
+            let c = sampled[1].count;
+            assert!(!c.exact);
+            assert!(c.lo <= 360_000.0 && 360_000.0 <= c.hi, "seed {seed}: {c:?}");
+            assert!(
+                (c.value - 360_000.0).abs() < 0.01 * 360_000.0,
+                "seed {seed}: {c:?}"
+            );
+            // Every pair of the first key is new: the estimate is exact in value.
+            assert_eq!(sampled[0].count.value, 88_500.0);
+            let weighted = sampled[1].pairs.len() as f64 * sampled[1].weight;
+            assert!((weighted - c.value).abs() < 1e-6, "{weighted} {c:?}");
+        }
     }
 }
