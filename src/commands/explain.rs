@@ -205,7 +205,7 @@ pub fn render(e: &Explanation, have_crosswalk: bool) -> String {
     }
     let fit_used = match &e.fit {
         Some(k) => format!(
-            "the model of blocking key `{k}` (its prior; the attributes it is built from add 0)"
+            "the model of blocking key `{k}` (its prior; the attributes it is built from weigh by their levels among its pairs)"
         ),
         None => "the combined model".to_string(),
     };

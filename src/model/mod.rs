@@ -14,7 +14,9 @@
 //!    from several random starts (the best likelihood kept). An attribute that a pair's
 //!    blocking key is built from always agrees on that key's pairs, so it is treated as
 //!    missing for those pairs in this step (the blocking-bias treatment of Jaro 1989,
-//!    without a separate fit per key). Each class is then named "same person" or not by
+//!    without a separate fit per key), and the key that found the pair is one more
+//!    observed variable, which gives each key class shares of its own ([`found_by`]).
+//!    Each class is then named "same person" or not by
 //!    a label-free rule on its *identifying attributes* ([`identifying_attributes`]):
 //!    a class is the same person when it rarely disagrees on them. K is the number of
 //!    classes with the lowest BIC (Schwarz 1978) among the fits whose classes separate
@@ -27,8 +29,8 @@
 //!    weights are fitted under the declared level order ([`em::ordered_rows`]): a better
 //!    level never weighs less than a worse one, and a missing value adds 0. Each
 //!    attribute is counted on the pairs whose key does not force it, and a pair is
-//!    scored with the prior of the key that found it, the key's own attributes adding 0
-//!    ([`key_models`]). The oracle fit ([`train::train_oracle`]) is the same step with
+//!    scored with the prior of the key that found it, the key's own attributes weighed
+//!    by their levels among that key's pairs only ([`key_models`]). The oracle fit ([`train::train_oracle`]) is the same step with
 //!    the true labels.
 //!
 //! A pair's evidence is the sum of its per-attribute weights log2(m/u) (plus the
@@ -596,7 +598,7 @@ fn same_person_classes(
             if let Some(&k) = identifying.iter().find(|&&k| seen(k)) {
                 return dis(k) < SAME_PERSON_MAX_DISAGREE;
             }
-            let ks: Vec<usize> = (0..params.prob[c].len()).filter(|&k| seen(k)).collect();
+            let ks: Vec<usize> = (0..observed[c].len()).filter(|&k| seen(k)).collect();
             !ks.is_empty()
                 && ks.iter().map(|&k| dis(k)).sum::<f64>() / (ks.len() as f64)
                     < SAME_PERSON_MAX_DISAGREE
@@ -611,6 +613,26 @@ pub fn masked(codes: &[u8], excluded: &[bool]) -> Vec<u8> {
         .zip(excluded)
         .map(|(&c, &e)| if e { MISSING_LEVEL } else { c })
         .collect()
+}
+
+/// The vector the latent class step sees for a pair found by blocking key `key`: the
+/// key's own attributes made missing ([`masked`]; they always agree to some degree on
+/// the key's pairs, the blocking-bias treatment of Jaro 1989) and the key's index
+/// appended as one more observed variable.
+///
+/// With P(key | class) free, that variable gives every key class shares of its own:
+/// how a pair was found says much about what it is (pairs sharing an e-mail address
+/// are mostly the same person, pairs sharing only a sound-alike name mostly not).
+/// Without it, a pair whose key attributes are masked would be judged by its other
+/// attributes alone, as if drawn from all candidate pairs: on customer data with
+/// sparse sources (a support desk with a name and an e-mail address) that put most of
+/// the pairs found by the e-mail key among "same name, other person" (measured in
+/// bench/outside: pairwise F1 0.886 without, 0.937 with, 100k customers).
+fn found_by(codes: &[u8], excluded: &[bool], key: usize) -> Vec<u8> {
+    let mut v = masked(codes, excluded);
+    // More keys than level codes: the last code stands for the rest.
+    v.push(u8::try_from(key.min(em::MAX_LEVELS - 1)).unwrap_or(0));
+    v
 }
 
 /// Expected level counts among matches (`a`) and non-matches (`b`), with the expected
@@ -673,11 +695,13 @@ pub fn project(counts: &SoftCounts) -> (f64, Vec<Vec<f64>>, Vec<Vec<f64>>) {
 }
 
 /// Per blocking key, the model that scores the pairs it produces first: the pooled
-/// weights, except that the attributes the key is built from add 0 (the pair was found
-/// because they agree, so their agreement is not new evidence), and as prior the share
-/// of matches among the key's pairs, shrunk towards the pooled share `lambda` with
-/// [`PRIOR_PAIRS`] pseudo-pairs. This is the Fellegi–Sunter posterior conditional on how
-/// the pair was found (Jaro 1989 scores each blocking pass on its own); m and u come from
+/// weights for the attributes the key is not built from; for the attributes it is built
+/// from (which agree at least as far as the key demands), m and u among the key's own
+/// pairs, so that only what the pair shows beyond the key counts (an exact name where
+/// the key asked for a sound-alike one); and as prior the share of matches among the
+/// key's pairs, shrunk towards the pooled share `lambda` with [`PRIOR_PAIRS`]
+/// pseudo-pairs. This is the Fellegi–Sunter posterior conditional on how the pair was
+/// found (Jaro 1989 scores each blocking pass on its own); the pooled m and u come from
 /// all candidate pairs, each attribute from the pairs whose key does not force it.
 pub fn key_models(
     keys: &[KeyCounts],
@@ -693,7 +717,9 @@ pub fn key_models(
             let (km, ku): (Vec<Vec<f64>>, Vec<Vec<f64>>) = (0..m.len())
                 .map(|k| {
                     if key.excluded[k] {
-                        (vec![1.0; m[k].len()], vec![1.0; m[k].len()])
+                        let a: Vec<f64> = own.a[k].iter().map(|x| x + M_SMOOTHING).collect();
+                        let b: Vec<f64> = own.b[k].iter().map(|x| x + M_SMOOTHING).collect();
+                        em::ordered_rows(&a, &b)
                     } else {
                         (m[k].clone(), u[k].clone())
                     }
@@ -730,14 +756,17 @@ pub fn fit(
     use rayon::prelude::*;
     let n_levels = comparison.n_levels();
     let k_attrs = n_levels.len();
-    // Pattern counts for the latent classes: key attributes masked, scaled counts.
-    let mut data = em::PatternCounts::new(n_levels.clone());
+    // Pattern counts for the latent classes: key attributes masked, scaled counts, and
+    // the key that found the pair as one more observed variable (see [`found_by`]).
+    let mut class_levels = n_levels.clone();
+    class_levels.push(keys.len().clamp(1, em::MAX_LEVELS));
+    let mut data = em::PatternCounts::new(class_levels);
     let mut candidate_pairs = 0.0;
-    for key in keys {
+    for (i, key) in keys.iter().enumerate() {
         candidate_pairs += key.counts.total() as f64 * key.scale;
         for (codes, n) in key.counts.iter() {
             let scaled = (n as f64 * key.scale).round().max(1.0) as u64;
-            data.add(&masked(&codes, &key.excluded), scaled)?;
+            data.add(&found_by(&codes, &key.excluded, i), scaled)?;
         }
     }
     if candidate_pairs <= 0.0 {
@@ -768,7 +797,10 @@ pub fn fit(
     let mut best: Option<(f64, em::ClassFit, Vec<bool>)> = None;
     for f in fits {
         let f = f?;
-        let observed = observed_shares(&data, &f.params);
+        let mut observed = observed_shares(&data, &f.params);
+        for row in &mut observed {
+            row.truncate(k_attrs);
+        }
         let same = same_person_classes(&f.params, &observed, &identifying);
         let separated = same.iter().any(|&x| x) && !same.iter().all(|&x| x);
         let bic = f.bic(data.total());
@@ -803,19 +835,21 @@ pub fn fit(
     // masked vectors.
     let mut soft = SoftCounts::new(&n_levels);
     let mut per_key = Vec::new();
-    for key in keys {
+    for (i, key) in keys.iter().enumerate() {
         let mut own = SoftCounts::new(&n_levels);
         for (codes, n) in key.counts.iter() {
-            let codes = masked(&codes, &key.excluded);
-            let post = chosen.params.posteriors(&codes);
+            let post = chosen
+                .params
+                .posteriors(&found_by(&codes, &key.excluded, i));
             let g: f64 = post
                 .iter()
                 .zip(&same)
                 .filter(|(_, &s)| s)
                 .map(|(p, _)| p)
                 .sum();
-            soft.add(&codes, n as f64 * key.scale, g.clamp(0.0, 1.0));
-            own.add(&codes, n as f64 * key.scale, g.clamp(0.0, 1.0));
+            let g = g.clamp(0.0, 1.0);
+            soft.add(&masked(&codes, &key.excluded), n as f64 * key.scale, g);
+            own.add(&codes, n as f64 * key.scale, g);
         }
         per_key.push(own);
     }
@@ -893,6 +927,7 @@ mod tests {
     use super::*;
     use crate::compare::{CompareSpec, Level};
     use crate::record::{Attr, RecordTableBuilder, StdRecord};
+    use std::path::Path;
 
     fn model_with(frequency: bool) -> Model {
         Model {
@@ -1033,6 +1068,120 @@ mod tests {
         // Without identifying attributes: the mean over the observed attributes.
         let same = same_person_classes(&params, &observed, &[]);
         assert_eq!(same, vec![true, false, false, true]);
+    }
+
+    #[test]
+    fn found_by_masks_the_key_attributes_and_names_the_key() {
+        let v = found_by(&[0, 1, MISSING_LEVEL], &[true, false, false], 3);
+        assert_eq!(v, vec![MISSING_LEVEL, 1, MISSING_LEVEL, 3]);
+    }
+
+    /// The attributes a key is built from are weighed by their levels among that key's
+    /// own pairs (order kept); the others use the pooled rows.
+    #[test]
+    fn key_models_weigh_forced_attributes_within_the_key() {
+        let key = KeyCounts {
+            name: "sound".into(),
+            excluded: vec![true, false],
+            counts: em::PatternCounts::new(vec![3, 2]),
+            scale: 1.0,
+        };
+        // Among the key's pairs, an exact name (level 0) is mostly the same person, a
+        // merely similar one (level 1) mostly not; level 2 never happens under the key.
+        let mut own = SoftCounts::new(&[3, 2]);
+        own.add(&[0, 0], 90.0, 1.0);
+        own.add(&[0, 1], 30.0, 0.0);
+        own.add(&[1, 1], 10.0, 1.0);
+        own.add(&[1, 1], 170.0, 0.0);
+        let pooled_m = vec![vec![0.8, 0.15, 0.05], vec![0.9, 0.1]];
+        let pooled_u = vec![vec![0.1, 0.2, 0.7], vec![0.2, 0.8]];
+        let km = key_models(&[key], &[own], 0.3, &pooled_m, &pooled_u);
+        let w = &km[0].weight;
+        // Forced attribute: log2((90.5 / 101.5) / (30.5 / 201.5)) (smoothing 0.5 per
+        // level; hand computed) for exact, below 0 for the similar level.
+        let want = ((90.5f64 / 101.5) / (30.5 / 201.5)).log2();
+        assert!((w[0][0] - want).abs() < 1e-9, "{w:?}");
+        assert!(
+            w[0][1] < 0.0 && w[0][0] > w[0][1] && w[0][1] >= w[0][2],
+            "{w:?}"
+        );
+        // The other attribute keeps the pooled weights.
+        assert!((w[1][0] - (0.9f64 / 0.2).log2()).abs() < 1e-12);
+        // Prior: (100 + 200 · 0.3) / (300 + 200).
+        assert!((km[0].lambda - 160.0 / 500.0).abs() < 1e-12);
+    }
+
+    /// A spec with the given compare and block sections over one source.
+    fn small_spec(compare_and_blocks: &str) -> Spec {
+        let text = format!(
+            "version = 1\n[[source]]\nname = \"s\"\npath = \"s.csv\"\nid = \"id\"\n\
+             [source.columns]\ngiven_name = \"g\"\nbirth_date = \"b\"\nemail = \"e\"\n\
+             {compare_and_blocks}"
+        );
+        Spec::parse(&text, Path::new("/tmp/x/spec.toml")).unwrap()
+    }
+
+    /// Each key gets the share of matches among its own pairs as its prior, also when the
+    /// attributes left to judge a key's pairs by look alike across keys: pairs found by a
+    /// shared e-mail address that are the same person (given name agrees, no birth date
+    /// in the sparse source) must not be taken for the namesakes that a name key finds.
+    /// Data drawn from known shares (values invented for the test).
+    #[test]
+    fn each_key_gets_the_match_share_of_its_own_pairs() {
+        let spec = small_spec(
+            "[[compare]]\nattribute = \"given_name\"\nlevels = [\"exact\"]\n\
+             [[compare]]\nattribute = \"birth_date\"\nlevels = [\"exact\"]\n\
+             [[compare]]\nattribute = \"email\"\nlevels = [\"exact\"]\n\
+             [[block]]\nname = \"mail\"\nkeys = [\"email\"]\n\
+             [[block]]\nname = \"name\"\nkeys = [\"given_name\"]\n",
+        );
+        let mut b = RecordTableBuilder::new(vec!["s".into()]);
+        let mut r = StdRecord::default();
+        for a in [Attr::GivenName, Attr::BirthDate, Attr::Email] {
+            r.set(a, Some("x".into()));
+        }
+        b.push(0, "1".into(), r);
+        let table = b.finish();
+        let comparison = Comparison::new(&spec.compares, &table);
+        let n_levels = comparison.n_levels();
+        let mut rng = crate::util::Rng::new(11);
+        let mut coin = |p: f64| (rng.below(1_000_000) as f64) < p * 1e6;
+        let mut draw = |pairs: usize, share: f64, sparse: f64| {
+            let mut counts = em::PatternCounts::new(n_levels.clone());
+            for _ in 0..pairs {
+                let same = coin(share);
+                let agree = |c: &mut dyn FnMut(f64) -> bool, p: f64| u8::from(!c(p));
+                let given = agree(&mut coin, if same { 0.95 } else { 0.9 });
+                let birth = if coin(sparse) {
+                    MISSING_LEVEL
+                } else {
+                    agree(&mut coin, if same { 0.97 } else { 0.02 })
+                };
+                let email = agree(&mut coin, if same { 0.7 } else { 0.01 });
+                counts.add(&[given, birth, email], 1).unwrap();
+            }
+            counts
+        };
+        // E-mail pairs: 90% the same person, mostly from a source without birth dates.
+        // Name pairs: 10% the same person, birth dates mostly present.
+        let keys = vec![
+            KeyCounts {
+                name: "mail".into(),
+                excluded: vec![false, false, true],
+                counts: draw(3000, 0.9, 0.8),
+                scale: 1.0,
+            },
+            KeyCounts {
+                name: "name".into(),
+                excluded: vec![true, false, false],
+                counts: draw(6000, 0.1, 0.1),
+                scale: 1.0,
+            },
+        ];
+        let model = fit(&spec, &comparison, 1000, &keys).unwrap();
+        let prior = |n: &str| model.keys.iter().find(|k| k.name == n).unwrap().lambda;
+        assert!((prior("mail") - 0.9).abs() < 0.05, "{}", prior("mail"));
+        assert!((prior("name") - 0.1).abs() < 0.05, "{}", prior("name"));
     }
 
     proptest::proptest! {

@@ -208,8 +208,7 @@ pub fn train_oracle(
         let mut own = super::SoftCounts::new(&n_levels);
         for (label, counts) in [(1.0, matches), (0.0, others)] {
             for (codes, n) in counts.iter() {
-                let codes = super::masked(&codes, &key.excluded);
-                soft.add(&codes, n as f64, label);
+                soft.add(&super::masked(&codes, &key.excluded), n as f64, label);
                 own.add(&codes, n as f64, label);
             }
         }
