@@ -122,11 +122,82 @@ pub fn unclosed_quote<'a>(
     None
 }
 
+/// Longest row read, in bytes: far beyond any customer row. It bounds the memory that an
+/// opening quote without its closing quote can take: the CSV parser would otherwise read
+/// the rest of the file into one field, looking for the closing quote.
+pub const MAX_ROW_BYTES: u64 = 1 << 20;
+
+/// What to say about a row (or header) longer than [`MAX_ROW_BYTES`].
+pub fn row_too_long(what: &str) -> String {
+    format!(
+        "{what} runs past {} MiB without ending: an opening quote `\"` without its closing \
+         quote? A field that opens with `\"` must close with `\"`; close or remove the quote \
+         (the file cannot be read on from here)",
+        MAX_ROW_BYTES >> 20
+    )
+}
+
+/// A reader that fails once more than [`MAX_ROW_BYTES`] have been read past `row_start`,
+/// the byte where the row being parsed began (the CSV parser reads ahead a few KiB).
+/// Set `row_start` (from the parser's position) before each row is read.
+#[derive(Debug)]
+pub struct RowLimit<R> {
+    inner: R,
+    /// Bytes handed to the parser so far.
+    passed: u64,
+    /// Where the row being parsed began.
+    pub row_start: u64,
+}
+
+impl<R> RowLimit<R> {
+    /// Limit the rows read from `inner`.
+    pub fn new(inner: R) -> Self {
+        RowLimit {
+            inner,
+            passed: 0,
+            row_start: 0,
+        }
+    }
+}
+
+/// The error a [`RowLimit`] reader fails with.
+#[derive(Debug)]
+struct RowTooLong;
+
+impl std::fmt::Display for RowTooLong {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&row_too_long("the row"))
+    }
+}
+
+impl std::error::Error for RowTooLong {}
+
+impl<R: std::io::Read> std::io::Read for RowLimit<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        if self.passed.saturating_sub(self.row_start) > MAX_ROW_BYTES {
+            return Err(std::io::Error::new(
+                std::io::ErrorKind::InvalidData,
+                RowTooLong,
+            ));
+        }
+        let n = self.inner.read(buf)?;
+        self.passed += n as u64;
+        Ok(n)
+    }
+}
+
+impl RowLimit<()> {
+    /// True when `e` is a [`RowLimit`] reader's failure.
+    pub fn hit(e: &csv::Error) -> bool {
+        matches!(e.kind(), csv::ErrorKind::Io(io) if io.get_ref().is_some_and(|x| x.is::<RowTooLong>()))
+    }
+}
+
 /// An input CSV file with a header row, read row by row.
 #[derive(Debug)]
 pub struct CsvTable {
     path: PathBuf,
-    rdr: csv::Reader<File>,
+    rdr: csv::Reader<RowLimit<File>>,
     headers: Vec<String>,
 }
 
@@ -141,17 +212,27 @@ impl CsvTable {
                 csv::Trim::None
             })
             .flexible(true)
-            .from_reader(file);
+            .from_reader(RowLimit::new(file));
         let headers = rdr
             .headers()
-            .map_err(|source| Error::Csv {
-                path: path.into(),
-                source,
+            .map_err(|source| {
+                if RowLimit::hit(&source) {
+                    Error::input(path, format!("line 1: {}", row_too_long("the header")))
+                } else {
+                    Error::Csv {
+                        path: path.into(),
+                        source,
+                    }
+                }
             })?
             .iter()
             .enumerate()
             .map(|(i, h)| clean_header(i, h))
-            .collect();
+            .collect::<Vec<String>>();
+        let raw = headers.iter().map(String::as_bytes);
+        if let Some(reason) = unclosed_quote(raw, &[], b',', 1, None) {
+            return Err(Error::input(path, format!("line 1: {reason}")));
+        }
         Ok(CsvTable {
             path: path.to_path_buf(),
             rdr,
@@ -205,9 +286,17 @@ impl CsvTable {
     ) -> Result<()> {
         let mut row = csv::StringRecord::new();
         loop {
+            let (line_before, row_start) = (self.rdr.position().line(), self.rdr.position().byte());
+            self.rdr.get_mut().row_start = row_start;
             match self.rdr.read_record(&mut row) {
                 Ok(false) => return Ok(()),
                 Ok(true) => {}
+                Err(source) if RowLimit::hit(&source) => {
+                    return Err(Error::input(
+                        &self.path,
+                        format!("line {line_before}: {}", row_too_long("a row")),
+                    ))
+                }
                 Err(source) => {
                     return Err(Error::Csv {
                         path: self.path.clone(),
@@ -428,6 +517,37 @@ mod tests {
                 && e.contains(
                     "line 3: unclosed quote: field 2 (column `source_id`) spans lines 3 to 5"
                 ),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn a_quote_never_closed_stops_within_a_mebibyte() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("truth.csv");
+        let mut text = "source,source_id,entity_id\ncrm,1,e1\ncrm,\"2,e2\n".to_string();
+        for i in 3..60_000 {
+            text.push_str(&format!("crm,{i},entity{i}\n"));
+        }
+        assert!(text.len() as u64 > MAX_ROW_BYTES);
+        std::fs::write(&p, &text).unwrap();
+        let mut t = CsvTable::open(&p, true).unwrap();
+        let e = t.for_each_row(|_, _| Ok(())).unwrap_err();
+        assert!(e.is_bad_input());
+        let e = e.to_string();
+        assert!(
+            e.contains("line 3: a row runs past 1 MiB without ending"),
+            "{e}"
+        );
+        let rows = text.replace('"', "");
+        std::fs::write(&p, format!("source,\"source_id\n{rows}")).unwrap();
+        let e = CsvTable::open(&p, true).unwrap_err().to_string();
+        assert!(e.contains("line 1: the header runs past 1 MiB"), "{e}");
+        // A header that swallows rows is found the same way as a row that does.
+        std::fs::write(&p, "source,\"source_id,entity_id\ncrm,1,e1\ncrm,\"2,e2\n").unwrap();
+        let e = CsvTable::open(&p, true).unwrap_err().to_string();
+        assert!(
+            e.contains("line 1: unclosed quote: field 2 (column `(none)`) spans lines 1 to 3"),
             "{e}"
         );
     }

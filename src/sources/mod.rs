@@ -207,20 +207,18 @@ pub fn learn_name_frequencies(sources: &[SourceSpec]) -> Result<NameFrequencies>
         }
         let path = src.path.as_path();
         let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-        let mut reader = csv::ReaderBuilder::new()
-            .flexible(true)
-            .has_headers(true)
-            .delimiter(src.delimiter)
-            .from_reader(std::io::BufReader::with_capacity(
-                1 << 20,
-                decoded(file, src.encoding),
-            ));
-        let headers = read_headers(&mut reader, path)?;
+        let mut reader = open_csv(src, file, 1 << 20);
+        let headers = read_headers(&mut reader, path, src.delimiter)?;
         let g_at = find_column(&headers, given, path, &src.name, "given_name")?;
         let f_at = find_column(&headers, family, path, &src.name, "family_name")?;
         let country = src.conventions.country.as_deref();
         let mut record = csv::ByteRecord::new();
-        while reader.read_byte_record(&mut record).unwrap_or(false) {
+        loop {
+            let row_start = reader.position().byte();
+            reader.get_mut().row_start = row_start;
+            if !reader.read_byte_record(&mut record).unwrap_or(false) {
+                break;
+            }
             let field = |k: usize| record.get(k).and_then(|b| std::str::from_utf8(b).ok());
             if let Some(v) = field(g_at).and_then(|v| names::clean_name_part(v, country).0) {
                 freqs.add_given(&v);
@@ -270,7 +268,9 @@ impl RawChunk {
 /// A source file being read chunk by chunk.
 struct SourceReader<'a> {
     src: &'a SourceSpec,
-    reader: csv::Reader<std::io::BufReader<Box<dyn Read + Send>>>,
+    reader: csv::Reader<crate::csvio::RowLimit<std::io::BufReader<Box<dyn Read + Send>>>>,
+    /// Set when the file cannot be read on (a row longer than [`MAX_ROW_BYTES`]).
+    fatal: Option<Error>,
     headers: Vec<String>,
     id_at: usize,
     /// Mapped columns: attribute and field index.
@@ -318,12 +318,25 @@ impl SourceReader<'_> {
 
     fn read_row(&mut self, chunk: &mut RawChunk) {
         let line_before = self.reader.position().line();
+        let row_start = self.reader.position().byte();
+        self.reader.get_mut().row_start = row_start;
         match self.reader.read_byte_record(&mut self.record) {
             Ok(false) => {
                 self.done = true;
                 return;
             }
             Ok(true) => {}
+            Err(e) if crate::csvio::RowLimit::hit(&e) => {
+                self.fatal = Some(Error::input(
+                    &self.src.path,
+                    format!(
+                        "line {line_before}: {}",
+                        crate::csvio::row_too_long("a row")
+                    ),
+                ));
+                self.done = true;
+                return;
+            }
             Err(e) => {
                 self.report.rows += 1;
                 let line = e.position().map_or(line_before, |p| p.line());
@@ -432,15 +445,8 @@ fn load_source(
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
     let file_bytes = file.metadata().map_or(0, |m| m.len());
-    let mut reader = csv::ReaderBuilder::new()
-        .flexible(true)
-        .has_headers(true)
-        .delimiter(src.delimiter)
-        .from_reader(std::io::BufReader::with_capacity(
-            1 << 20,
-            decoded(file, src.encoding),
-        ));
-    let headers = read_headers(&mut reader, path)?;
+    let mut reader = open_csv(src, file, 1 << 20);
+    let headers = read_headers(&mut reader, path, src.delimiter)?;
     let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;
     let mut mapped: Vec<(Attr, usize)> = Vec::new();
     for (attr, header) in &src.columns {
@@ -463,6 +469,7 @@ fn load_source(
         rejects: Vec::new(),
         done: false,
         file_bytes,
+        fatal: None,
     };
 
     let first_row = builder.len();
@@ -503,6 +510,9 @@ fn load_source(
         spare = std::mem::replace(&mut current, next);
     }
     chunking.buffers = [current, spare];
+    if let Some(e) = input.fatal.take() {
+        return Err(e);
+    }
     rejects.append(&mut input.rejects);
     let mut report = input.report;
 
@@ -538,12 +548,8 @@ pub fn raw_values(src: &SourceSpec, id: &str) -> Result<Option<Vec<(Attr, String
     }
     let path = src.path.as_path();
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-    let mut reader = csv::ReaderBuilder::new()
-        .flexible(true)
-        .has_headers(true)
-        .delimiter(src.delimiter)
-        .from_reader(std::io::BufReader::new(decoded(file, src.encoding)));
-    let headers = read_headers(&mut reader, path)?;
+    let mut reader = open_csv(src, file, 64 << 10);
+    let headers = read_headers(&mut reader, path, src.delimiter)?;
     let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;
     let mut mapped: Vec<(Attr, usize)> = Vec::new();
     for (attr, header) in &src.columns {
@@ -562,12 +568,16 @@ pub fn raw_values(src: &SourceSpec, id: &str) -> Result<Option<Vec<(Attr, String
         rejects: Vec::new(),
         done: false,
         file_bytes: 0,
+        fatal: None,
     };
     let n = input.mapped.len();
     let attrs: Vec<Attr> = input.mapped.iter().map(|&(a, _)| a).collect();
     let mut chunk = RawChunk::default();
     loop {
         chunk = input.read_chunk(4096, chunk);
+        if let Some(e) = input.fatal.take() {
+            return Err(e);
+        }
         if chunk.rows() == 0 {
             return Ok(None);
         }
@@ -719,6 +729,22 @@ impl RawRecord {
     }
 }
 
+/// The CSV reader of a source file: header first, rows of any length (checked later),
+/// the source's delimiter and encoding, and rows limited to [`MAX_ROW_BYTES`].
+fn open_csv(
+    src: &SourceSpec,
+    file: std::fs::File,
+    buffer: usize,
+) -> csv::Reader<crate::csvio::RowLimit<std::io::BufReader<Box<dyn Read + Send>>>> {
+    csv::ReaderBuilder::new()
+        .flexible(true)
+        .has_headers(true)
+        .delimiter(src.delimiter)
+        .from_reader(crate::csvio::RowLimit::new(
+            std::io::BufReader::with_capacity(buffer, decoded(file, src.encoding)),
+        ))
+}
+
 /// The file as UTF-8: as it is, or decoded from the source's single-byte encoding.
 fn decoded(file: std::fs::File, encoding: Encoding) -> Box<dyn Read + Send> {
     match encoding {
@@ -727,10 +753,23 @@ fn decoded(file: std::fs::File, encoding: Encoding) -> Box<dyn Read + Send> {
     }
 }
 
-fn read_headers<R: std::io::Read>(reader: &mut csv::Reader<R>, path: &Path) -> Result<Vec<String>> {
-    let raw = reader.byte_headers().map_err(|e| Error::Csv {
-        path: path.to_path_buf(),
-        source: e,
+fn read_headers<R: std::io::Read>(
+    reader: &mut csv::Reader<R>,
+    path: &Path,
+    delimiter: u8,
+) -> Result<Vec<String>> {
+    let raw = reader.byte_headers().map_err(|e| {
+        if crate::csvio::RowLimit::hit(&e) {
+            Error::input(
+                path,
+                format!("line 1: {}", crate::csvio::row_too_long("the header")),
+            )
+        } else {
+            Error::Csv {
+                path: path.to_path_buf(),
+                source: e,
+            }
+        }
     })?;
     if raw.is_empty() || (raw.len() == 1 && raw[0].is_empty()) {
         return Err(Error::input(
@@ -750,6 +789,9 @@ fn read_headers<R: std::io::Read>(reader: &mut csv::Reader<R>, path: &Path) -> R
             )
         })?;
         headers.push(crate::csvio::clean_header(i, h));
+    }
+    if let Some(reason) = crate::csvio::unclosed_quote(raw.iter(), &[], delimiter, 1, None) {
+        return Err(Error::input(path, format!("line 1: {reason}")));
     }
     Ok(headers)
 }
@@ -925,6 +967,47 @@ keys = ["family_name"]
         let got = load(&spec.sources).unwrap();
         assert_eq!(got.table.id, vec!["1", "2"]);
         assert!(got.rejects.is_empty(), "{:?}", got.rejects);
+    }
+
+    #[test]
+    fn a_quote_left_open_for_more_than_a_mebibyte_stops_with_an_error() {
+        let dir = tempfile::tempdir().unwrap();
+        let mut csv = b"id,last,mail\n1,Smith,a@x.org\n2,\"Jones,j@x.org\n".to_vec();
+        for i in 3..60_000 {
+            csv.extend_from_slice(format!("{i},Name{i},n{i}@example.org\n").as_bytes());
+        }
+        assert!(csv.len() as u64 > crate::csvio::MAX_ROW_BYTES);
+        let spec = spec_for(dir.path(), &csv);
+        let err = load(&spec.sources).unwrap_err();
+        assert!(err.is_bad_input());
+        let err = err.to_string();
+        assert!(
+            err.contains("a.csv") && err.contains("line 3: a row runs past 1 MiB without ending"),
+            "{err}"
+        );
+        // The same in the header.
+        let mut csv = b"id,\"last,mail\n".to_vec();
+        csv.extend(std::iter::repeat_n(
+            b'x',
+            crate::csvio::MAX_ROW_BYTES as usize + 10_000,
+        ));
+        let spec = spec_for(dir.path(), &csv);
+        let err = load(&spec.sources).unwrap_err().to_string();
+        assert!(err.contains("line 1: the header runs past 1 MiB"), "{err}");
+        // A header that swallows rows.
+        let spec = spec_for(
+            dir.path(),
+            b"id,\"last,mail\n1,Smith,a@x.org\n2,\"Jones,j@x.org\n",
+        );
+        let err = load(&spec.sources).unwrap_err().to_string();
+        assert!(err.contains("line 1: unclosed quote: field 2"), "{err}");
+        // Long files of ordinary rows are read on: the limit is per row.
+        let mut csv = b"id,last,mail\n".to_vec();
+        for i in 0..30_000 {
+            csv.extend_from_slice(format!("{i},Name{i},n{i}@example.org\n").as_bytes());
+        }
+        let spec = spec_for(dir.path(), &csv);
+        assert_eq!(load(&spec.sources).unwrap().table.len(), 30_000);
     }
 
     #[test]
