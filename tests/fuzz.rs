@@ -1,15 +1,18 @@
 //! Fuzzing on the stable toolchain: arbitrary and mutated inputs for the CSV reader, the
 //! spec loader, the model loader and each standardizer (names, e-mail, phone, address,
 //! dates). Each target must not panic, must not hang (every input finishes within
-//! [`MAX_PER_INPUT`]) and must keep memory bounded (peak resident memory of the process
+//! [`MAX_PER_INPUT`] of CPU time) and must keep memory bounded (peak resident memory of the process
 //! under [`MAX_PEAK_MIB`]).
+//!
+//! A failing input is kept in `target/fuzz-failures/`; `SAMEKEY_FUZZ_REPLAY=<file>` runs
+//! it first (for the target named at the start of the file name).
 //!
 //! Inputs come from a seeded generator: random bytes, and seed inputs mutated by byte
 //! flips, insertions of tokens that break parsers (quotes, delimiters, line ends, NUL,
 //! long runs, non-ASCII letters, numbers at the edges), deletions, duplications and
 //! splices. `SAMEKEY_FUZZ_SECONDS` sets the time per target (default 2: the smoke run of
 //! `cargo test`); `SAMEKEY_FUZZ_SEED` the seed. Each target prints its input count.
-//! `bench/fuzz.sh` runs each target for ten minutes.
+//! `bench/fuzz.sh` runs each target for ten minutes, one after the other.
 
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::Path;
@@ -18,8 +21,11 @@ use std::time::{Duration, Instant};
 use samekey::record::{Attr, StdRecord};
 use samekey::standardize::{self, Conventions, DateOrder, NameOrder, StdStats};
 
-/// Longest time one input may take.
+/// Longest CPU time one input may take (CPU time of the thread, so that a busy machine
+/// does not count as a slow input).
 const MAX_PER_INPUT: Duration = Duration::from_secs(5);
+/// Longest wall-clock time one input may take before the watchdog calls it a hang.
+const HANG: Duration = Duration::from_secs(120);
 /// Largest peak resident memory of the test process, MiB.
 const MAX_PEAK_MIB: u64 = 2048;
 
@@ -182,6 +188,72 @@ fn peak_mib() -> u64 {
         .map_or(0, |kb| kb / 1024)
 }
 
+/// Write a failing input to `target/fuzz-failures/<target>-<hash>.bin` and return the
+/// path.
+fn keep_failure(name: &str, data: &[u8]) -> String {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("target/fuzz-failures");
+    let _ = std::fs::create_dir_all(&dir);
+    let path = dir.join(format!(
+        "{name}-{:016x}.bin",
+        samekey::util::stable_hash(data)
+    ));
+    let _ = std::fs::write(&path, data);
+    path.display().to_string()
+}
+
+/// The start of an input, for a failure message.
+fn shown(data: &[u8]) -> String {
+    let t = String::from_utf8_lossy(&data[..data.len().min(200)]).into_owned();
+    format!("{} bytes, starting {t:?}", data.len())
+}
+
+/// Ends the process, keeping the input, when one input runs longer than [`HANG`]: a hang
+/// never returns to the loop that would time it.
+struct Watchdog {
+    current: std::sync::Arc<std::sync::Mutex<(Instant, Vec<u8>)>>,
+    done: std::sync::Arc<std::sync::atomic::AtomicBool>,
+}
+
+impl Watchdog {
+    fn start(name: &str) -> Watchdog {
+        use std::sync::atomic::Ordering;
+        let current = std::sync::Arc::new(std::sync::Mutex::new((Instant::now(), Vec::new())));
+        let done = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(false));
+        let (c, d, name) = (current.clone(), done.clone(), name.to_owned());
+        std::thread::spawn(move || {
+            while !d.load(Ordering::Relaxed) {
+                std::thread::sleep(Duration::from_millis(500));
+                let (since, data) = &*c.lock().unwrap_or_else(|e| e.into_inner());
+                if since.elapsed() > HANG {
+                    let kept = keep_failure(&name, data);
+                    eprintln!(
+                        "fuzz {name}: hang, no answer after {:?} on an input of {} bytes \
+                         (kept in {kept}; replay with SAMEKEY_FUZZ_REPLAY={kept})",
+                        since.elapsed(),
+                        data.len()
+                    );
+                    std::process::abort();
+                }
+            }
+        });
+        Watchdog { current, done }
+    }
+
+    /// The input now being run.
+    fn set(&self, data: &[u8]) {
+        let mut cur = self.current.lock().unwrap_or_else(|e| e.into_inner());
+        cur.0 = Instant::now();
+        cur.1.clear();
+        cur.1.extend_from_slice(data);
+    }
+}
+
+impl Drop for Watchdog {
+    fn drop(&mut self) {
+        self.done.store(true, std::sync::atomic::Ordering::Relaxed);
+    }
+}
+
 /// Run `target` on generated inputs for the configured time; fail on a panic, a slow
 /// input or too much memory, printing the input that did it.
 fn fuzz(name: &str, seeds: &[&[u8]], mut target: impl FnMut(&[u8])) {
@@ -194,25 +266,39 @@ fn fuzz(name: &str, seeds: &[&[u8]], mut target: impl FnMut(&[u8])) {
     let budget = Duration::from_secs(seconds());
     let started = Instant::now();
     let mut count = 0u64;
-    // Seeds first, then generated inputs.
+    let watch = Watchdog::start(name);
+    // Seeds first (and a kept failure to replay), then generated inputs.
     let mut queue: Vec<Vec<u8>> = seeds.clone();
+    if let Ok(replay) = std::env::var("SAMEKEY_FUZZ_REPLAY") {
+        if Path::new(&replay)
+            .file_name()
+            .is_some_and(|f| f.to_string_lossy().starts_with(&format!("{name}-")))
+        {
+            queue.push(std::fs::read(&replay).unwrap());
+        }
+    }
     while started.elapsed() < budget || !queue.is_empty() {
         let data = queue.pop().unwrap_or_else(|| input(&mut rng, &seeds));
-        let t = Instant::now();
-        let r = catch_unwind(AssertUnwindSafe(|| target(&data)));
-        let took = t.elapsed();
+        watch.set(&data);
+        let (r, took) =
+            samekey::util::cpu::thread_cpu(|| catch_unwind(AssertUnwindSafe(|| target(&data))));
         count += 1;
         if r.is_err() {
+            let kept = keep_failure(name, &data);
             panic!(
-                "fuzz {name}: panic on input {:?}",
-                String::from_utf8_lossy(&data)
+                "fuzz {name}: panic on input {} (kept in {kept}; replay with \
+                 SAMEKEY_FUZZ_REPLAY={kept})",
+                shown(&data)
             );
         }
-        assert!(
-            took < MAX_PER_INPUT,
-            "fuzz {name}: {took:?} on input {:?}",
-            String::from_utf8_lossy(&data)
-        );
+        if took >= MAX_PER_INPUT {
+            let kept = keep_failure(name, &data);
+            panic!(
+                "fuzz {name}: {took:?} of CPU on input {} (kept in {kept}; replay with \
+                 SAMEKEY_FUZZ_REPLAY={kept})",
+                shown(&data)
+            );
+        }
     }
     let peak = peak_mib();
     assert!(peak < MAX_PEAK_MIB, "fuzz {name}: peak memory {peak} MiB");
