@@ -3,8 +3,9 @@
 //!
 //! Runs are killed at named points (the test-only `SAMEKEY_TEST_CRASH_AT` hook aborts
 //! the process there, as `kill -9` would) and at random instants with SIGKILL.
-//! `SAMEKEY_KILL_ROUNDS` sets the number of timed-kill and concurrency rounds
-//! (`bench/kill_rounds.sh` runs 20).
+//! `SAMEKEY_KILL_ROUNDS` sets the number of timed-kill and concurrency rounds in one test
+//! run, `SAMEKEY_KILL_SEED` the seed of the kill times; `bench/kill_rounds.sh` runs each
+//! test 20 times with a seed of its own and counts the passes.
 
 use std::path::Path;
 use std::process::{Command, Stdio};
@@ -104,6 +105,17 @@ fn rounds() -> usize {
         .unwrap_or(3)
 }
 
+/// Seed of the kill times: `SAMEKEY_KILL_SEED` (each round of `bench/kill_rounds.sh`
+/// gives its own), else a fixed one.
+fn kill_seed() -> u64 {
+    let extra: u64 = std::env::var("SAMEKEY_KILL_SEED")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(0);
+    // Never zero: the xorshift generator would stay at zero.
+    (0x9e37_79b9_7f4a_7c15u64 ^ extra.wrapping_mul(0x2545_f491_4f6c_dd1d)) | 1
+}
+
 /// A small deterministic generator for kill times (no extra crate).
 fn next(state: &mut u64) -> u64 {
     *state ^= *state << 13;
@@ -167,7 +179,7 @@ fn runs_killed_at_random_instants_never_leave_a_mixed_folder() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let full = started.elapsed().as_millis().max(20) as u64;
     assert_consistent(&out);
-    let mut seed = 0x9e37_79b9_7f4a_7c15u64;
+    let mut seed = kill_seed();
     let mut killed = 0;
     for round in 0..rounds() * 2 {
         let wait = next(&mut seed) % (full + full / 4);
@@ -182,6 +194,10 @@ fn runs_killed_at_random_instants_never_leave_a_mixed_folder() {
         let _ = round;
     }
     assert!(killed > 0, "no run was killed while running");
+    println!(
+        "kill rounds: {killed} of {} runs killed while running",
+        rounds() * 2
+    );
     let o = link_cmd(&spec, &out, &[]).output().unwrap();
     assert!(o.status.success());
     assert_consistent(&out);
@@ -198,6 +214,7 @@ fn a_second_writer_is_refused_and_the_folder_holds_one_run() {
     let data = synth_data(400);
     let spec = data.path().join("data/spec.toml");
     let out = data.path().join("out");
+    let mut refused = 0;
     for _ in 0..rounds() {
         let a = link_cmd(&spec, &out, &[]).spawn().unwrap();
         let b = link_cmd(&spec, &out, &["--pairs", "linked"])
@@ -215,7 +232,12 @@ fn a_second_writer_is_refused_and_the_folder_holds_one_run() {
         }
         assert!(ok >= 1);
         assert_consistent(&out);
+        refused += 2 - ok;
     }
+    println!(
+        "kill rounds: {refused} of {} second writers refused",
+        rounds()
+    );
 }
 
 #[test]
