@@ -8,7 +8,7 @@
 //! the header lookup rule: a header names a column exactly.
 
 use std::fs::File;
-use std::io::BufWriter;
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use crate::error::{Error, Result};
@@ -353,21 +353,38 @@ impl CsvTable {
     }
 }
 
-/// An output CSV file, written through `csv::Writer` (fields quoted when needed).
+/// Bytes of formatted rows kept before they are written on (one large write, not many).
+const WRITE_BUFFER: usize = 1 << 20;
+
+/// An output CSV file, written through `csv::Writer` (fields quoted when needed). Rows
+/// formatted elsewhere, on worker threads, come in as [`CsvChunk`]s.
 #[derive(Debug)]
-pub struct CsvWriter {
+pub struct CsvWriter<W: Write = File> {
     path: PathBuf,
-    w: csv::Writer<BufWriter<File>>,
+    out: W,
+    /// Rows formatted but not yet written to `out`.
+    pending: CsvChunk,
+    /// Rows written to `out`.
+    records: u64,
 }
 
-impl CsvWriter {
+impl CsvWriter<File> {
     /// Create (or truncate) `path`.
-    pub fn create(path: &Path) -> Result<CsvWriter> {
+    pub fn create(path: &Path) -> Result<CsvWriter<File>> {
         let file = File::create(path).map_err(|e| Error::write(path, e))?;
-        Ok(CsvWriter {
+        Ok(CsvWriter::on(path, file))
+    }
+}
+
+impl<W: Write> CsvWriter<W> {
+    /// Write CSV into `inner`; `path` names it in errors.
+    pub fn on(path: &Path, inner: W) -> CsvWriter<W> {
+        CsvWriter {
             path: path.to_path_buf(),
-            w: csv::Writer::from_writer(BufWriter::with_capacity(1 << 20, file)),
-        })
+            out: inner,
+            pending: CsvChunk::default(),
+            records: 0,
+        }
     }
 
     /// Write one row.
@@ -376,19 +393,141 @@ impl CsvWriter {
         I: IntoIterator<Item = S>,
         S: AsRef<[u8]>,
     {
-        self.w
+        self.pending
+            .w
             .write_record(fields)
-            .map_err(|e| Error::write_csv(&self.path, e))
+            .map_err(|e| Error::write_csv(&self.path, e))?;
+        self.pending.records += 1;
+        if self.pending.w.get_ref().len() >= WRITE_BUFFER {
+            self.write_pending()?;
+        }
+        Ok(())
     }
 
-    /// Flush everything to the file.
+    /// Write the rows of a chunk after the rows written so far.
+    pub fn append(&mut self, chunk: CsvChunk) -> Result<()> {
+        self.write_pending()?;
+        self.write_chunk(chunk)
+    }
+
+    fn write_pending(&mut self) -> Result<()> {
+        let pending = std::mem::take(&mut self.pending);
+        self.write_chunk(pending)
+    }
+
+    fn write_chunk(&mut self, chunk: CsvChunk) -> Result<()> {
+        let (bytes, records) = chunk.into_bytes(&self.path)?;
+        self.out
+            .write_all(&bytes)
+            .map_err(|e| Error::write(&self.path, e))?;
+        self.records += records;
+        Ok(())
+    }
+
+    /// Rows written so far (a header row counts as one).
+    pub fn records(&self) -> u64 {
+        self.records + self.pending.records
+    }
+
+    /// The file (or other place) written to.
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// Write everything and give back the inner writer (e.g. the file, to sync it).
+    pub fn into_inner(mut self) -> Result<W> {
+        self.write_pending()?;
+        self.out.flush().map_err(|e| Error::write(&self.path, e))?;
+        Ok(self.out)
+    }
+
+    /// Write everything to the file.
     pub fn finish(self) -> Result<()> {
-        let path = self.path;
-        let mut inner = self
+        self.into_inner().map(drop)
+    }
+}
+
+/// Rows formatted in memory through `csv::Writer`, e.g. by one worker thread, to be
+/// written in order with [`CsvWriter::append`]. Write a row field by field
+/// ([`CsvChunk::field`], then [`CsvChunk::end_row`]) or whole ([`CsvChunk::row`]).
+#[derive(Debug)]
+pub struct CsvChunk {
+    w: csv::Writer<Vec<u8>>,
+    records: u64,
+    /// The first failure (none is expected when writing to memory), reported on append.
+    failed: Option<csv::Error>,
+}
+
+impl Default for CsvChunk {
+    fn default() -> CsvChunk {
+        CsvChunk {
+            w: csv::WriterBuilder::new()
+                .flexible(true)
+                .from_writer(Vec::new()),
+            records: 0,
+            failed: None,
+        }
+    }
+}
+
+impl CsvChunk {
+    fn keep(&mut self, r: std::result::Result<(), csv::Error>) {
+        if let (Err(e), None) = (r, &self.failed) {
+            self.failed = Some(e);
+        }
+    }
+
+    /// Write one field of the current row.
+    pub fn field(&mut self, value: impl AsRef<[u8]>) {
+        let r = self.w.write_field(value);
+        self.keep(r);
+    }
+
+    /// Write one field shown with `decimals` decimals.
+    pub fn number(&mut self, value: f64, decimals: usize) {
+        let mut buf = [0u8; 48];
+        let mut cursor = std::io::Cursor::new(&mut buf[..]);
+        if write!(cursor, "{value:.decimals$}").is_ok() {
+            let n = cursor.position() as usize;
+            self.field(&buf[..n]);
+        } else {
+            self.field(format!("{value:.decimals$}"));
+        }
+    }
+
+    /// End the current row.
+    pub fn end_row(&mut self) {
+        let r = self.w.write_record(None::<&[u8]>);
+        self.keep(r);
+        self.records += 1;
+    }
+
+    /// Write one whole row.
+    pub fn row<I, S>(&mut self, fields: I)
+    where
+        I: IntoIterator<Item = S>,
+        S: AsRef<[u8]>,
+    {
+        let r = self.w.write_record(fields);
+        self.keep(r);
+        self.records += 1;
+    }
+
+    /// Rows written.
+    pub fn records(&self) -> u64 {
+        self.records
+    }
+
+    /// The CSV text and its number of rows (`path` names the file in an error).
+    pub fn into_bytes(self, path: &Path) -> Result<(Vec<u8>, u64)> {
+        if let Some(e) = self.failed {
+            return Err(Error::write_csv(path, e));
+        }
+        let bytes = self
             .w
             .into_inner()
-            .map_err(|e| Error::write(&path, e.into_error()))?;
-        std::io::Write::flush(&mut inner).map_err(|e| Error::write(&path, e))
+            .map_err(|e| Error::write(path, e.into_error()))?;
+        Ok((bytes, self.records))
     }
 }
 

@@ -22,12 +22,14 @@ pub mod error;
 pub mod evaluate;
 pub mod keys;
 pub mod model;
+pub mod model_file;
 pub mod output;
 pub mod pipeline;
 pub mod prepare;
 pub mod record;
 pub mod refresh;
 pub mod score;
+pub mod shards;
 pub mod sources;
 pub mod spec;
 pub mod standardize;
@@ -37,3 +39,13 @@ pub mod synth;
 pub mod util;
 
 pub use error::{Error, Result};
+
+/// Test data shared by the unit tests.
+#[cfg(test)]
+pub(crate) mod testdata {
+    /// The spec of `tests/data/mini`: 20 invented records in two sources.
+    pub fn mini_spec() -> crate::spec::Spec {
+        let p = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/mini/spec.toml");
+        crate::spec::Spec::load(&p).unwrap()
+    }
+}

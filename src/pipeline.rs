@@ -7,22 +7,22 @@
 //! ([`crate::keys`]). Candidate pairs are never stored as a whole: pass 1 (fitting)
 //! only counts comparison vectors, pass 2 streams scored pairs into the sinks.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::time::Instant;
 
-use crate::cluster::{Clusters, Edge, SpecGuards};
+use crate::cluster::SpecGuards;
 use crate::decide::Decider;
 use crate::error::{Error, Result};
 use crate::model::{self, Model};
 use crate::output::{
-    read_match_edges, write_crosswalk, write_refused, write_rejects, MatchEdges, PairsFile,
-    PairsOutput, ReviewFile, Staging,
+    write_clusters, write_rejects, write_summary, MatchEdges, PairsFile, PairsOutput, ReviewFile,
+    Staging,
 };
 use crate::prepare::{PrepareOptions, Prepared};
-use crate::record::RecordTable;
 use crate::score::{score_all, threshold_for_target, PairScorer};
+use crate::shards::record_run_facts;
 use crate::spec::Spec;
-use crate::summary::{KeySummary, MergeSummary, RunSummary};
+use crate::summary::{KeySummary, RunSummary};
 use crate::util::cpu::process_cpu_time;
 use crate::util::Progress;
 
@@ -125,7 +125,17 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         clock = t.record("choose threshold", clock);
     }
 
-    record_run_facts(&mut staging, spec, opts, scorer.decider())?;
+    record_run_facts(
+        &mut staging,
+        spec,
+        scorer.decider(),
+        opts.model.as_deref(),
+        opts.shard,
+    )?;
+    staging.set_meta("pairs", opts.pairs.name());
+    if let Some(t) = opts.target_precision {
+        staging.set_meta("target_precision", t.to_string());
+    }
     let bar = pair_bar("score + write pairs");
     let pairs = PairsFile::create(&mut staging, opts.pairs, &p.table, &p.comparison)?;
     let review = ReviewFile::new(&p.table, &p.comparison);
@@ -141,7 +151,9 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         None
     } else {
         let spin = Progress::spinner(opts.progress, "cluster + keys");
-        let c = cluster_and_write(spec, p, &edges.edges, &mut staging)?;
+        let guards = SpecGuards::new(spec, &p.table, &p.comparison);
+        let c = guards.cluster(&p.table, &edges.edges);
+        write_clusters(&mut staging, &p.table, &c, &guards.unique_names)?;
         spin.finish();
         clock = t.record("cluster + keys", clock);
         Some(c)
@@ -160,7 +172,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
         sources: p.reports.clone(),
         std_stats: p.stats.clone(),
         records: p.table.len(),
-        keys: key_summaries(p, &stats.per_key),
+        keys: KeySummary::of(&p.blocking, &stats.per_key),
         model,
         fitted,
         decider,
@@ -174,11 +186,7 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     };
     // summary.json is part of the output set: it names every file beside it and holds
     // the stage timings up to this point.
-    let json_path = staging.path(SUMMARY_FILE);
-    summary.outputs = staging.files().iter().map(|f| opts.out.join(f)).collect();
-    let text = serde_json::to_string_pretty(&summary.to_json())
-        .map_err(|e| Error::Internal(format!("summary.json: {e}")))?;
-    std::fs::write(&json_path, text + "\n").map_err(|e| Error::write(&json_path, e))?;
+    write_summary(&mut staging, &mut summary, &opts.out)?;
     summary.outputs = staging.commit()?;
     spin.finish();
     summary.timings.record("write outputs", clock);
@@ -188,238 +196,14 @@ pub fn run(spec: &Spec, opts: &RunOptions) -> Result<RunSummary> {
     Ok(summary)
 }
 
-/// The name of the run summary written into `link`'s output folder.
-pub const SUMMARY_FILE: &str = "summary.json";
-
-/// Per blocking key: its pairs and blocks, and `new_pairs[k]` pairs it produced first.
-fn key_summaries(p: &Prepared, new_pairs: &[u64]) -> Vec<KeySummary> {
-    p.blocking
-        .keys
-        .iter()
-        .zip(new_pairs)
-        .map(|(kb, &new_pairs)| KeySummary {
-            name: kb.name.clone(),
-            raw_pairs: kb.raw_pairs(),
-            new_pairs,
-            blocks: kb.len(),
-            largest_block: kb.largest(1).first().map_or(0, |x| x.1),
-        })
-        .collect()
-}
-
-/// A fingerprint of what decides a shard's blocks and pairs: the compared attributes and
-/// levels and the blocking keys.
-pub fn spec_shard_fingerprint(spec: &Spec) -> String {
-    let text = format!("{}\n{:?}", spec.model_fingerprint(), spec.blocks);
-    format!("{:016x}", crate::util::stable_hash(text.as_bytes()))
-}
-
-/// Record in the run's manifest what `merge` checks: the shard, the spec and model it
-/// was scored with and its thresholds.
-fn record_run_facts(
-    staging: &mut Staging,
-    spec: &Spec,
-    opts: &RunOptions,
-    decider: &Decider,
-) -> Result<()> {
-    staging.set_meta("command", "link");
-    staging.set_meta("spec_fingerprint", spec_shard_fingerprint(spec));
-    staging.set_meta(
-        "thresholds",
-        format!("{:.6}/{:.6}", decider.upper, decider.lower),
-    );
-    if let Some(p) = &opts.model {
-        let bytes = std::fs::read(p).map_err(|e| Error::io(p, e))?;
-        staging.set_meta(
-            "model_fingerprint",
-            format!("{:016x}", crate::util::stable_hash(&bytes)),
-        );
-    }
-    if let Some(t) = opts.target_precision {
-        staging.set_meta("target_precision", t.to_string());
-    }
-    staging.set_meta(
-        "pairs",
-        match opts.pairs {
-            PairsOutput::All => "all",
-            PairsOutput::Linked => "linked",
-        },
-    );
-    if let Some((i, n)) = opts.shard {
-        staging.set_meta("shard", format!("{}/{n}", i + 1));
-    }
-    Ok(())
-}
-
-/// Cluster matched edges with the spec's guards, assign keys, and stage
-/// `crosswalk.csv` and `refused.csv`.
-fn cluster_and_write(
-    spec: &Spec,
-    p: &Prepared,
-    edges: &[Edge],
-    staging: &mut Staging,
-) -> Result<Clusters> {
-    let guards = SpecGuards::new(spec, &p.table, &p.comparison);
-    let clusters = guards.cluster(&p.table, edges);
-    write_keys(&p.table, &clusters, &guards, staging)?;
-    Ok(clusters)
-}
-
-fn write_keys(
-    table: &RecordTable,
-    clusters: &Clusters,
-    guards: &SpecGuards<'_>,
-    staging: &mut Staging,
-) -> Result<()> {
-    let keys = crate::keys::assign(table, &clusters.label);
-    write_crosswalk(staging, table, &keys)?;
-    write_refused(staging, table, clusters, &guards.unique_names)
-}
-
-/// Cluster the matched pairs of several shard runs (their `pairs.csv`) into one
-/// crosswalk, exactly as an unsharded run would.
-pub fn merge(spec: &Spec, shards: &[PathBuf], out: &Path, progress: bool) -> Result<MergeSummary> {
-    let mut staging = Staging::new(out)?;
-    check_shard_set(spec, shards)?;
-    staging.set_meta("command", "merge");
-    let p = Prepared::new(
-        spec,
-        PrepareOptions {
-            progress,
-            pair_limit: false,
-            purpose: "merging",
-        },
-    )?;
-    let spin = Progress::spinner(progress, "read shard pairs");
-    let mut edges = Vec::new();
-    for dir in shards {
-        edges.extend(read_match_edges(&dir.join("pairs.csv"), &p.table)?);
-    }
-    spin.finish();
-    let spin = Progress::spinner(progress, "cluster + keys");
-    let clusters = cluster_and_write(spec, &p, &edges, &mut staging)?;
-    let outputs = staging.commit()?;
-    spin.finish();
-    Ok(MergeSummary {
-        shards: shards.len(),
-        records: p.table.len(),
-        match_pairs: edges.len() as u64,
-        customers: clusters.count(),
-        refused_merges: clusters.refused.len(),
-        outputs,
-    })
-}
-
-/// Check that `shards` are the complete output of one sharded run of this spec (or one
-/// whole run): each
-/// folder holds a complete shard run (its manifest), all of the same shard count, spec,
-/// model and thresholds, and every shard `1..=N` is given exactly once.
-pub fn check_shard_set(spec: &Spec, shards: &[PathBuf]) -> Result<()> {
-    use crate::output::staging::Manifest;
-    let mut seen: Vec<Option<&Path>> = Vec::new();
-    let mut first: Option<(&Path, Manifest)> = None;
-    let want_spec = spec_shard_fingerprint(spec);
-    for dir in shards {
-        let m = Manifest::read_current(dir)?;
-        // A whole (unsharded) run is a complete set by itself.
-        if shards.len() == 1 && m.meta("shard").is_none() && m.meta("command") == Some("link") {
-            return Ok(());
-        }
-        let Some((i, n)) = m.meta("shard").and_then(|s| {
-            let (i, n) = s.split_once('/')?;
-            let (i, n) = (i.parse::<usize>().ok()?, n.parse::<usize>().ok()?);
-            (i >= 1 && i <= n && n <= 1 << 16).then_some((i, n))
-        }) else {
-            return Err(Error::input(
-                dir,
-                "this folder holds no shard run (its last run was not `samekey link \
-                 --shard I/N`); give the output folders of the shard runs",
-            ));
-        };
-        if m.meta("spec_fingerprint") != Some(want_spec.as_str()) {
-            return Err(Error::input(
-                dir,
-                "this shard was run with another spec (different compared attributes, \
-                 levels or blocking keys) than the one given to merge",
-            ));
-        }
-        if let Some((fdir, f)) = &first {
-            let differs = |key: &str| f.meta(key) != m.meta(key);
-            let what =
-                if f.meta("shard").map(|s| s.split('/').nth(1)) != Some(Some(&*n.to_string())) {
-                    Some(format!(
-                        "shard count ({n} against {})",
-                        f.meta("shard").unwrap_or("")
-                    ))
-                } else if differs("model_fingerprint") {
-                    Some("model file".to_string())
-                } else if differs("thresholds") {
-                    Some(
-                        "match or review threshold (each shard chose its own with \
-                     --target-precision?); run every shard with the same thresholds"
-                            .to_string(),
-                    )
-                } else {
-                    None
-                };
-            if let Some(what) = what {
-                return Err(Error::input(
-                    dir,
-                    format!(
-                        "this shard does not belong to the same sharded run as `{}`: \
-                         different {what}",
-                        fdir.display()
-                    ),
-                ));
-            }
-        } else {
-            seen = vec![None; n];
-        }
-        if let Some(other) = seen[i - 1] {
-            return Err(Error::input(
-                dir,
-                format!(
-                    "shard {i}/{n} is given twice (also `{}`); give each shard once",
-                    other.display()
-                ),
-            ));
-        }
-        seen[i - 1] = Some(dir.as_path());
-        if first.is_none() {
-            first = Some((dir.as_path(), m));
-        }
-    }
-    let missing: Vec<String> = seen
-        .iter()
-        .enumerate()
-        .filter(|(_, s)| s.is_none())
-        .map(|(i, _)| format!("{}/{}", i + 1, seen.len()))
-        .collect();
-    if !missing.is_empty() {
-        return Err(Error::Usage(format!(
-            "merge needs every shard of the run; missing: {}",
-            missing.join(", ")
-        )));
-    }
-    Ok(())
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn mini() -> Spec {
-        let p = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/mini/spec.toml");
-        Spec::load(&p).unwrap()
-    }
-
-    fn read(path: &Path) -> String {
-        std::fs::read_to_string(path).unwrap()
-    }
+    use crate::testdata::mini_spec;
 
     #[test]
     fn a_run_writes_every_output_and_counts_every_pair() {
-        let spec = mini();
+        let spec = mini_spec();
         let dir = tempfile::tempdir().unwrap();
         let s = run(
             &spec,
@@ -446,7 +230,11 @@ mod tests {
             assert!(names.iter().any(|n| n == f), "{f} missing from {names:?}");
         }
         // Every candidate pair is in pairs.csv once and counted under one decision.
-        let rows = read(&dir.path().join("pairs.csv")).lines().count() as u64 - 1;
+        let rows = std::fs::read_to_string(dir.path().join("pairs.csv"))
+            .unwrap()
+            .lines()
+            .count() as u64
+            - 1;
         assert_eq!(rows, s.candidate_pairs());
         assert_eq!(s.decisions.iter().sum::<u64>(), s.candidate_pairs());
         assert_eq!(s.records, 20);
@@ -467,43 +255,8 @@ mod tests {
     }
 
     #[test]
-    fn shards_merged_give_the_unsharded_crosswalk() {
-        let spec = mini();
-        let dir = tempfile::tempdir().unwrap();
-        let d = dir.path();
-        let full = RunOptions {
-            out: d.join("full"),
-            ..Default::default()
-        };
-        run(&spec, &full).unwrap();
-        let model = d.join("full/model.toml");
-        let mut shards = Vec::new();
-        for i in 0..3 {
-            let out = d.join(format!("shard{i}"));
-            let s = run(
-                &spec,
-                &RunOptions {
-                    out: out.clone(),
-                    model: Some(model.clone()),
-                    shard: Some((i, 3)),
-                    ..Default::default()
-                },
-            )
-            .unwrap();
-            assert_eq!(s.customers, 0);
-            shards.push(out);
-        }
-        let m = merge(&spec, &shards, &d.join("merged"), false).unwrap();
-        assert_eq!(m.records, 20);
-        assert_eq!(
-            read(&d.join("merged/crosswalk.csv")),
-            read(&d.join("full/crosswalk.csv"))
-        );
-    }
-
-    #[test]
     fn a_shard_run_needs_a_model() {
-        let spec = mini();
+        let spec = mini_spec();
         let dir = tempfile::tempdir().unwrap();
         let err = run(
             &spec,

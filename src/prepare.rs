@@ -139,16 +139,11 @@ impl Prepared {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use std::path::Path;
-
-    fn mini() -> Spec {
-        let p = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/mini/spec.toml");
-        Spec::load(&p).unwrap()
-    }
+    use crate::testdata::mini_spec;
 
     #[test]
     fn prepares_records_blocks_and_tasks_once() {
-        let spec = mini();
+        let spec = mini_spec();
         let p = Prepared::new(&spec, PrepareOptions::default()).unwrap();
         assert_eq!(p.table.len(), 20);
         assert_eq!(p.blocking.keys.len(), spec.blocks.len());
@@ -164,7 +159,7 @@ mod tests {
 
     #[test]
     fn shards_partition_the_tasks() {
-        let spec = mini();
+        let spec = mini_spec();
         let all = Prepared::new(&spec, PrepareOptions::default()).unwrap();
         let mut n = 0;
         for i in 0..3 {
@@ -177,7 +172,7 @@ mod tests {
 
     #[test]
     fn finds_records_and_the_keys_joining_them() {
-        let spec = mini();
+        let spec = mini_spec();
         let p = Prepared::new(&spec, PrepareOptions::default()).unwrap();
         let a = p.find("crm", "c1").unwrap();
         let b = p.find("shop", "s1").unwrap();

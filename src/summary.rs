@@ -9,6 +9,7 @@ use std::path::PathBuf;
 
 use serde_json::{json, Value};
 
+use crate::block::Blocking;
 use crate::decide::{Decider, Decision, Estimate};
 use crate::model::Model;
 use crate::sources::SourceReport;
@@ -28,6 +29,25 @@ pub struct KeySummary {
     pub blocks: usize,
     /// Largest block size.
     pub largest_block: usize,
+}
+
+impl KeySummary {
+    /// Per blocking key of `blocking`: its pairs and blocks, and `new_pairs[k]` pairs it
+    /// produced first.
+    pub fn of(blocking: &Blocking, new_pairs: &[u64]) -> Vec<KeySummary> {
+        blocking
+            .keys
+            .iter()
+            .zip(new_pairs)
+            .map(|(kb, &new_pairs)| KeySummary {
+                name: kb.name.clone(),
+                raw_pairs: kb.raw_pairs(),
+                new_pairs,
+                blocks: kb.len(),
+                largest_block: kb.largest(1).first().map_or(0, |x| x.1),
+            })
+            .collect()
+    }
 }
 
 /// What a run did.

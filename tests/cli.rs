@@ -13,29 +13,12 @@ fn json_of(o: &std::process::Output) -> serde_json::Value {
     serde_json::from_str(&out).unwrap_or_else(|e| panic!("not JSON ({e}): {out}"))
 }
 
-/// Train into `dir/fit` and return the model file.
-fn train(dir: &std::path::Path) -> String {
-    let o = run(
-        &[
-            "--quiet",
-            "train",
-            "--spec",
-            &s(&dir.join("spec.toml")),
-            "--out",
-            &s(&dir.join("fit")),
-        ],
-        None,
-    );
-    assert!(o.status.success(), "{}", text(&o).1);
-    s(&dir.join("fit/model.toml"))
-}
-
 #[test]
 fn quiet_prints_nothing_on_success() {
     let dir = mini_copy();
     let d = dir.path();
     let spec = s(&d.join("spec.toml"));
-    let model = train(d);
+    let model = s(&train(d, "fit"));
     let runs: Vec<Vec<String>> = vec![
         vec![
             "link".into(),
@@ -149,17 +132,7 @@ fn plan_train_merge_and_explain_print_json() {
     let plan = json_of(&run(&["plan", "--spec", &spec, "--json"], None));
     assert_eq!(plan["records"], 20);
     assert_eq!(plan["keys"].as_array().unwrap().len(), 2);
-    let t = json_of(&run(
-        &[
-            "train",
-            "--spec",
-            &spec,
-            "--out",
-            &s(&d.join("fit")),
-            "--json",
-        ],
-        None,
-    ));
+    let t = json_of(&train_run(d, "fit", &["--json"]));
     assert_eq!(t["command"], "train");
     assert!(t["attributes"][0]["levels"][0]["bits"].as_f64().is_some());
     let model = s(&d.join("fit/model.toml"));
@@ -177,13 +150,8 @@ fn plan_train_merge_and_explain_print_json() {
         None,
     ));
     assert_eq!(m["records"], 20);
-    let run_model = s(&d.join("run/model.toml"));
-    let e = json_of(&run(
-        &[
-            "explain", "--spec", &spec, "--model", &run_model, "crm:c1", "shop:s1", "--json",
-        ],
-        None,
-    ));
+    let run_model = d.join("run/model.toml");
+    let e = json_of(&explain(d, &run_model, "crm:c1", "shop:s1", &["--json"]));
     // The crosswalk next to the model gives the customer keys; both are one customer.
     let ka = e["records"][0]["customer_key"].as_str().unwrap();
     assert!(ka.starts_with("SK-"), "{ka}");
@@ -213,19 +181,8 @@ fn plan_train_merge_and_explain_print_json() {
 fn explain_refuses_a_record_compared_with_itself() {
     let dir = mini_copy();
     let d = dir.path();
-    let model = train(d);
-    let o = run(
-        &[
-            "explain",
-            "--spec",
-            &s(&d.join("spec.toml")),
-            "--model",
-            &model,
-            "crm:c1",
-            "crm:c1",
-        ],
-        None,
-    );
+    let model = train(d, "fit");
+    let o = explain(d, &model, "crm:c1", "crm:c1", &[]);
     assert_eq!(o.status.code(), Some(2));
     assert!(text(&o).1.contains("twice"), "{}", text(&o).1);
 }
@@ -242,19 +199,8 @@ fn explain_keeps_its_columns_with_long_values() {
         crm.replace("anna.berglund@example.org", &long),
     )
     .unwrap();
-    let model = train(d);
-    let o = run(
-        &[
-            "explain",
-            "--spec",
-            &s(&d.join("spec.toml")),
-            "--model",
-            &model,
-            "crm:c1",
-            "shop:s1",
-        ],
-        None,
-    );
+    let model = train(d, "fit");
+    let o = explain(d, &model, "crm:c1", "shop:s1", &[]);
     let (out, err) = text(&o);
     assert!(o.status.success(), "{err}");
     // Every attribute line starts with the attribute, then the level and the bits in
@@ -286,16 +232,7 @@ fn explain_keeps_its_columns_with_long_values() {
 fn train_out_is_a_folder() {
     let dir = mini_copy();
     let d = dir.path();
-    let o = run(
-        &[
-            "train",
-            "--spec",
-            &s(&d.join("spec.toml")),
-            "--out",
-            &s(&d.join("m.toml")),
-        ],
-        None,
-    );
+    let o = train_run(d, "m.toml", &[]);
     assert_eq!(o.status.code(), Some(2));
     let err = text(&o).1;
     assert!(

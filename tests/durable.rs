@@ -296,29 +296,10 @@ fn a_bad_truth_file_is_found_before_the_outputs_are_replaced() {
     assert_eq!(assert_consistent(&dir.path().join("out")), first);
 }
 
-/// `train` on the mini data into `dir/model/model.toml`.
-fn train(dir: &Path) -> std::path::PathBuf {
-    let folder = dir.join("model");
-    let spec = dir.join("spec.toml");
-    let o = run(
-        &[
-            "--quiet",
-            "train",
-            "--spec",
-            spec.to_str().unwrap(),
-            "--out",
-            folder.to_str().unwrap(),
-        ],
-        None,
-    );
-    assert!(o.status.success(), "{}", text(&o).1);
-    folder.join("model.toml")
-}
-
 #[test]
 fn a_shard_run_into_a_full_run_folder_replaces_the_whole_set() {
     let dir = mini_copy();
-    let model = train(dir.path());
+    let model = train(dir.path(), "model");
     let o = link(dir.path(), "out", &[], None);
     assert!(o.status.success());
     assert!(dir.path().join("out/crosswalk.csv").exists());
@@ -341,7 +322,7 @@ fn a_shard_run_into_a_full_run_folder_replaces_the_whole_set() {
 #[test]
 fn merge_refuses_missing_duplicated_and_mixed_shards() {
     let dir = mini_copy();
-    let model = train(dir.path());
+    let model = train(dir.path(), "model");
     let m = model.to_str().unwrap();
     for (out, extra) in [
         ("s1", vec!["--shard", "1/2"]),
@@ -395,7 +376,7 @@ fn merge_refuses_shards_with_their_own_thresholds() {
     let spec = dir.path().join("spec.toml");
     let s = std::fs::read_to_string(&spec).unwrap();
     std::fs::write(&spec, s.replace("review_at = 0.5", "review_at = 0.0000001")).unwrap();
-    let model = train(dir.path());
+    let model = train(dir.path(), "model");
     let m = model.to_str().unwrap();
     for (out, extra) in [
         ("s1", vec!["--shard", "1/2", "--target-precision", "0.6"]),

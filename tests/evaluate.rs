@@ -11,6 +11,13 @@ fn samekey(dir: &Path, args: &[&str]) -> Output {
         .expect("run samekey")
 }
 
+/// `samekey evaluate --truth TRUTH --crosswalk CROSSWALK` in `dir`, with extra flags.
+fn evaluate(dir: &Path, truth: &str, crosswalk: &str, extra: &[&str]) -> Output {
+    let mut args = vec!["evaluate", "--truth", truth, "--crosswalk", crosswalk];
+    args.extend_from_slice(extra);
+    samekey(dir, &args)
+}
+
 fn write_inputs(dir: &Path) {
     // Truth {crm1, crm2, web1}, {web2, shop3}, {shop4};
     // crosswalk {crm1, crm2}, {web1}, {web2, shop3}; shop4 missing, shop9 extra.
@@ -35,18 +42,11 @@ fn write_inputs(dir: &Path) {
 fn evaluate_prints_json_scores() {
     let dir = tempfile::tempdir().unwrap();
     write_inputs(dir.path());
-    let out = samekey(
+    let out = evaluate(
         dir.path(),
-        &[
-            "evaluate",
-            "--truth",
-            "truth.csv",
-            "--crosswalk",
-            "crosswalk.csv",
-            "--pairs",
-            "pairs.csv",
-            "--json",
-        ],
+        "truth.csv",
+        "crosswalk.csv",
+        &["--pairs", "pairs.csv", "--json"],
     );
     assert_eq!(out.status.code(), Some(0), "{out:?}");
     let j: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
@@ -71,16 +71,7 @@ fn evaluate_prints_json_scores() {
 fn evaluate_prints_a_table() {
     let dir = tempfile::tempdir().unwrap();
     write_inputs(dir.path());
-    let out = samekey(
-        dir.path(),
-        &[
-            "evaluate",
-            "--truth",
-            "truth.csv",
-            "--crosswalk",
-            "crosswalk.csv",
-        ],
-    );
+    let out = evaluate(dir.path(), "truth.csv", "crosswalk.csv", &[]);
     assert_eq!(out.status.code(), Some(0), "{out:?}");
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(
@@ -95,16 +86,7 @@ fn evaluate_bad_input_exits_2_and_names_the_file() {
     let dir = tempfile::tempdir().unwrap();
     write_inputs(dir.path());
     // Pairs file given as the crosswalk: wrong header.
-    let out = samekey(
-        dir.path(),
-        &[
-            "evaluate",
-            "--truth",
-            "truth.csv",
-            "--crosswalk",
-            "pairs.csv",
-        ],
-    );
+    let out = evaluate(dir.path(), "truth.csv", "pairs.csv", &[]);
     assert_eq!(out.status.code(), Some(2), "{out:?}");
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(
@@ -113,16 +95,7 @@ fn evaluate_bad_input_exits_2_and_names_the_file() {
     );
     assert!(err.contains("found `source_a`, `id_a`"), "{err}");
     // Missing file.
-    let out = samekey(
-        dir.path(),
-        &[
-            "evaluate",
-            "--truth",
-            "nope.csv",
-            "--crosswalk",
-            "crosswalk.csv",
-        ],
-    );
+    let out = evaluate(dir.path(), "nope.csv", "crosswalk.csv", &[]);
     assert_eq!(out.status.code(), Some(2), "{out:?}");
     // Missing required flag.
     let out = samekey(dir.path(), &["evaluate", "--truth", "truth.csv"]);

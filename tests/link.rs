@@ -127,18 +127,8 @@ fn same_input_same_keys_for_any_thread_count_and_with_a_saved_model() {
 #[test]
 fn train_saves_a_model_that_link_accepts() {
     let dir = mini_copy();
-    let spec = dir.path().join("spec.toml");
     let folder = dir.path().join("m");
-    let o = run(
-        &[
-            "train",
-            "--spec",
-            spec.to_str().unwrap(),
-            "--out",
-            folder.to_str().unwrap(),
-        ],
-        None,
-    );
+    let o = train_run(dir.path(), "m", &[]);
     assert!(o.status.success(), "{}", text(&o).1);
     // --out is a folder; the model is model.toml inside it.
     let model = folder.join("model.toml");
@@ -187,11 +177,7 @@ fn sharded_runs_merge_into_the_unsharded_crosswalk() {
     let spec = d.join("spec.toml");
     let model = d.join("fit/model.toml");
     let s = |p: &std::path::Path| p.to_str().unwrap().to_string();
-    let o = run(
-        &["train", "--spec", &s(&spec), "--out", &s(&d.join("fit"))],
-        None,
-    );
-    assert!(o.status.success(), "{}", text(&o).1);
+    train(d, "fit");
     let o = link(d, "whole", &["--model", &s(&model)], None);
     assert!(o.status.success(), "{}", text(&o).1);
     let mut shard_dirs = Vec::new();
@@ -245,18 +231,8 @@ fn sharded_runs_merge_into_the_unsharded_crosswalk() {
 fn explain_shows_levels_values_and_bits() {
     let dir = mini_copy();
     let d = dir.path();
-    let spec = d.join("spec.toml").to_str().unwrap().to_string();
-    let folder = d.join("m").to_str().unwrap().to_string();
-    let model = d.join("m/model.toml").to_str().unwrap().to_string();
-    assert!(run(&["train", "--spec", &spec, "--out", &folder], None)
-        .status
-        .success());
-    let o = run(
-        &[
-            "explain", "--spec", &spec, "--model", &model, "crm:c1", "shop:s1",
-        ],
-        None,
-    );
+    let model = train(d, "m");
+    let o = explain(d, &model, "crm:c1", "shop:s1", &[]);
     let (out, err) = text(&o);
     assert!(o.status.success(), "{err}");
     let email = out.lines().find(|l| l.starts_with("email")).unwrap();
@@ -268,12 +244,7 @@ fn explain_shows_levels_values_and_bits() {
         out.contains("evidence") && out.contains("postcode, email"),
         "{out}"
     );
-    let o = run(
-        &[
-            "explain", "--spec", &spec, "--model", &model, "erp:1", "shop:s1",
-        ],
-        None,
-    );
+    let o = explain(d, &model, "erp:1", "shop:s1", &[]);
     assert_eq!(o.status.code(), Some(2));
     assert!(text(&o).1.contains("crm, shop"), "{}", text(&o).1);
 }

@@ -130,6 +130,20 @@ fn top_module(src: &Path, file: &Path) -> Option<String> {
     (!matches!(top.as_str(), "main" | "lib" | "commands")).then_some(top)
 }
 
+/// The files of the test-only modules `test_mods` declared (`#[cfg(test)] mod name;`)
+/// in `file`: `name.rs` or `name/mod.rs` beside it.
+fn test_module_files(file: &Path, test_mods: &[String]) -> Vec<PathBuf> {
+    let dir = if file.file_name().unwrap() == "mod.rs" {
+        file.parent().unwrap().to_path_buf()
+    } else {
+        file.with_extension("")
+    };
+    test_mods
+        .iter()
+        .flat_map(|m| [dir.join(format!("{m}.rs")), dir.join(m).join("mod.rs")])
+        .collect()
+}
+
 /// The library's module graph: top-level module -> modules it imports.
 fn module_graph(src: &Path) -> Graph {
     let mut files = Vec::new();
@@ -144,15 +158,7 @@ fn module_graph(src: &Path) -> Graph {
         };
         let text = std::fs::read_to_string(file).unwrap();
         let (code, test_mods) = strip_test_items(&strip_comments(&text));
-        let dir = if file.file_name().unwrap() == "mod.rs" {
-            file.parent().unwrap().to_path_buf()
-        } else {
-            file.with_extension("")
-        };
-        for m in test_mods {
-            test_files.insert(dir.join(format!("{m}.rs")));
-            test_files.insert(dir.join(&m).join("mod.rs"));
-        }
+        test_files.extend(test_module_files(file, &test_mods));
         code_of.push((file.clone(), top, code));
     }
     let mut graph = Graph::new();
@@ -243,4 +249,112 @@ fn library_modules_import_without_cycles() {
             cycle.join(" -> ")
         );
     }
+}
+
+/// The pipeline's stages, which get data and give data and touch no file.
+const STAGES: [&str; 8] = [
+    "standardize",
+    "block",
+    "compare",
+    "model",
+    "score",
+    "decide",
+    "cluster",
+    "keys",
+];
+
+/// What file I/O looks like in this code base: the standard library's file system and
+/// standard streams, and the modules of the I/O edge.
+const FILE_IO: [&str; 10] = [
+    "std::fs",
+    "fs::",
+    "File::",
+    "OpenOptions",
+    "std::io::stdin",
+    "std::io::stdout",
+    "crate::csvio",
+    "crate::output",
+    "crate::store",
+    "crate::model_file",
+];
+
+/// The file I/O found in the code (not the tests) of the top-level module `top`, as
+/// `(file, line, what)`.
+fn file_io_in(src: &Path, top: &str) -> Vec<(PathBuf, usize, &'static str)> {
+    let mut files = Vec::new();
+    let dir = src.join(top);
+    if dir.is_dir() {
+        rust_files(&dir, &mut files);
+    } else {
+        files.push(src.join(format!("{top}.rs")));
+    }
+    files.sort();
+    let texts: Vec<(PathBuf, String)> = files
+        .iter()
+        .map(|f| (f.clone(), std::fs::read_to_string(f).unwrap()))
+        .collect();
+    // Files of `#[cfg(test)] mod name;` modules are tests as a whole.
+    let mut test_files = BTreeSet::new();
+    for (file, text) in &texts {
+        let (_, test_mods) = strip_test_items(&strip_comments(text));
+        test_files.extend(test_module_files(file, &test_mods));
+    }
+    let mut found = Vec::new();
+    for (file, text) in &texts {
+        if test_files.contains(file) {
+            continue;
+        }
+        let (code, _) = strip_test_items(&strip_comments(text));
+        for (n, line) in code.lines().enumerate() {
+            for what in FILE_IO {
+                if line.contains(what) {
+                    found.push((file.clone(), n + 1, what));
+                }
+            }
+        }
+    }
+    found
+}
+
+#[test]
+fn the_file_io_scan_finds_io_and_skips_tests() {
+    let dir = tempfile::tempdir().unwrap();
+    let src = dir.path();
+    std::fs::create_dir_all(src.join("stage")).unwrap();
+    std::fs::write(
+        src.join("stage/mod.rs"),
+        "// std::fs in a comment\nfn f() { let _ = std::fs::read(\"x\"); }\n\
+         #[cfg(test)]\nmod tests { fn g() { std::fs::File::open(\"y\"); } }\n\
+         #[cfg(test)]\nmod more;\n",
+    )
+    .unwrap();
+    std::fs::write(src.join("stage/more.rs"), "use std::fs::File;\n").unwrap();
+    std::fs::write(src.join("flat.rs"), "use crate::csvio::CsvWriter;\n").unwrap();
+    let found = file_io_in(src, "stage");
+    let what: Vec<&str> = found.iter().map(|f| f.2).collect();
+    assert_eq!(what, ["std::fs", "fs::"]);
+    assert_eq!(found[0].1, 2);
+    assert_eq!(file_io_in(src, "flat")[0].2, "crate::csvio");
+}
+
+#[test]
+fn stages_touch_no_files() {
+    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
+    let mut found = Vec::new();
+    for stage in STAGES {
+        found.extend(file_io_in(&src, stage));
+    }
+    let report: Vec<String> = found
+        .iter()
+        .map(|(f, n, what)| {
+            let f = f.strip_prefix(&src).unwrap_or(f).display();
+            format!("src/{f}:{n}: {what}")
+        })
+        .collect();
+    assert!(
+        report.is_empty(),
+        "the pipeline's stages get data and give data; move reading and writing files \
+         to the I/O edge (sources, csvio, output, model_file, store, ...):\n{}",
+        report.join("\n")
+    );
 }

@@ -1,8 +1,11 @@
 //! Cluster: matched pairs in, a partition of the records into customers out.
 //!
-//! Matched pairs are merged with union-find in descending weight order (ties broken by
-//! record indexes), so the result does not depend on the order the pairs arrive in or on
-//! the thread count. Guards can refuse a merge: a maximum cluster size, "at most one
+//! Matched pairs are merged with union-find in descending order of their log2 odds,
+//! `prior + evidence` (the number the decision was made from; ties broken by record
+//! indexes), so the result does not depend on the order the pairs arrive in or on the
+//! thread count. Evidence alone would misorder pairs found by blocking keys with
+//! different priors: strong evidence on a key whose pairs are rarely the same customer
+//! can be a weaker case than moderate evidence on a key whose pairs usually are. Guards can refuse a merge: a maximum cluster size, "at most one
 //! record per source" for sources known to be free of duplicates, and cannot-links from
 //! attributes declared unique per person (two different non-empty values). A refused merge is
 //! recorded so that a person can look at it. Without guards this is plain transitive
@@ -32,8 +35,17 @@ pub struct Edge {
     pub a: u32,
     /// Second record.
     pub b: u32,
-    /// Match weight; stronger edges merge first.
-    pub weight: f64,
+    /// The pair's evidence (sum of its bits).
+    pub evidence: f64,
+    /// The pair's prior (log2 prior odds of the fit that scored it).
+    pub prior: f64,
+}
+
+impl Edge {
+    /// Posterior log2 odds, `prior + evidence`: edges with more merge first.
+    pub fn log2_odds(&self) -> f64 {
+        self.prior + self.evidence
+    }
 }
 
 /// Why a merge was refused.
@@ -215,8 +227,8 @@ pub fn cluster_with(
     let mut order: Vec<usize> = (0..edges.len()).collect();
     order.sort_by(|&x, &y| {
         let (e, f) = (&edges[x], &edges[y]);
-        f.weight
-            .total_cmp(&e.weight)
+        f.log2_odds()
+            .total_cmp(&e.log2_odds())
             .then(e.a.min(e.b).cmp(&f.a.min(f.b)))
             .then(e.a.max(e.b).cmp(&f.a.max(f.b)))
     });
@@ -297,8 +309,47 @@ mod tests {
     use super::*;
     use proptest::prelude::*;
 
-    fn e(a: u32, b: u32, weight: f64) -> Edge {
-        Edge { a, b, weight }
+    fn e(a: u32, b: u32, evidence: f64) -> Edge {
+        Edge {
+            a,
+            b,
+            evidence,
+            prior: 0.0,
+        }
+    }
+
+    #[test]
+    fn edges_merge_in_order_of_log2_odds_not_evidence() {
+        // Records 0 and 2 are from a source with one record per customer, so record 1
+        // joins one of them. Edge 0-1 has more evidence (12 bits) but was found by a
+        // blocking key whose pairs are rarely the same customer (prior -10 bits: 2 bits
+        // of log2 odds); edge 1-2 has less evidence (9 bits) on a key with prior -3
+        // bits (6 bits of log2 odds). The stronger case, 1-2, must win.
+        let edges = [
+            Edge {
+                a: 0,
+                b: 1,
+                evidence: 12.0,
+                prior: -10.0,
+            },
+            Edge {
+                a: 1,
+                b: 2,
+                evidence: 9.0,
+                prior: -3.0,
+            },
+        ];
+        let g = Guards {
+            one_per_source: vec![true, false],
+            ..Default::default()
+        };
+        let c = cluster(3, &edges, &[0, 1, 0], &g);
+        assert_eq!(c.label, vec![0, 1, 1]);
+        assert_eq!(c.refused, vec![(edges[0], Refusal::SameSource)]);
+        // Ordered by evidence alone, 0-1 would have merged first and 1-2 been refused.
+        let by_evidence: Vec<Edge> = edges.iter().map(|x| Edge { prior: 0.0, ..*x }).collect();
+        let c = cluster(3, &by_evidence, &[0, 1, 0], &g);
+        assert_eq!(c.label, vec![0, 0, 2]);
     }
 
     #[test]

@@ -2,7 +2,7 @@
 
 use std::path::PathBuf;
 
-use samekey::pipeline;
+use samekey::shards;
 
 use super::Global;
 
@@ -26,7 +26,7 @@ pub struct Args {
 /// Run `samekey merge`.
 pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     let spec = super::values::load_spec(&args.spec)?;
-    let s = pipeline::merge(&spec, &args.shards, &args.out, !global.quiet && !args.json)?;
+    let s = shards::merge(&spec, &args.shards, &args.out, !global.quiet && !args.json)?;
     if global.quiet {
         return Ok(());
     }

@@ -110,14 +110,7 @@ fn refresh_locked(
     let linked = refresh::link_in_memory(spec, model, !global.quiet)?;
     pause_point("linked");
     if let Some(path) = &args.rejects {
-        let mut text = String::from("source,line,reason\n");
-        for r in &linked.rejects {
-            samekey::output::push_field(&mut text, &r.source);
-            text.push_str(&format!(",{},", r.line));
-            samekey::output::push_field(&mut text, &r.reason);
-            text.push('\n');
-        }
-        samekey::output::write_atomic(path, text.as_bytes())?;
+        samekey::output::write_rejects_file(path, &linked.rejects)?;
     }
     let (mut run, summary) = refresh::plan_run(spec_text, spec, &prev, &linked, started_at)?;
     if args.dry_run {
@@ -133,25 +126,10 @@ fn refresh_locked(
 
 /// A stored model, checked against the spec like a model file.
 fn model_from_store(text: &str, spec: &Spec, location: &str) -> anyhow::Result<Model> {
-    let dir = tempfile_dir()?;
-    let path = dir.join("stored-model.toml");
-    std::fs::write(&path, text).map_err(|e| samekey::Error::io(&path, e))?;
-    let model = Model::load(&path, spec).with_context(|| {
+    let name = PathBuf::from(format!("{location} (latest model)"));
+    Model::from_toml(text, &name, spec).with_context(|| {
         format!("the latest model in store `{location}` does not fit this spec; run with --refit")
-    });
-    let _ = std::fs::remove_dir_all(&dir);
-    model
-}
-
-/// A private temporary folder (removed by the caller).
-fn tempfile_dir() -> anyhow::Result<PathBuf> {
-    let dir = std::env::temp_dir().join(format!(
-        "samekey-refresh-{}-{}",
-        std::process::id(),
-        store::now_utc().replace(':', "")
-    ));
-    std::fs::create_dir_all(&dir).map_err(|e| samekey::Error::io(&dir, e))?;
-    Ok(dir)
+    })
 }
 
 /// Print the refresh summary.

@@ -203,20 +203,21 @@ impl Model {
         self.fit.iterations
     }
 
-    /// Write the model as TOML to `path` (atomically: temp file, then rename).
-    pub fn save(&self, path: &Path) -> Result<()> {
+    /// The model file's text: TOML with a header comment (written to disk by
+    /// `Model::save` in [`crate::model_file`]).
+    pub fn to_toml(&self) -> Result<String> {
         let text = toml::to_string_pretty(self)
             .map_err(|e| Error::Internal(format!("cannot serialize the model: {e}")))?;
         let header =
             "# samekey fitted model: Fellegi–Sunter m/u per attribute level and the match\n\
                       # prior among candidate pairs. Weights are log2(m/u); a missing value adds 0.\n";
-        crate::output::write_atomic(path, format!("{header}{text}").as_bytes())
+        Ok(format!("{header}{text}"))
     }
 
-    /// Read a model file and check it fits `spec`.
-    pub fn load(path: &Path, spec: &Spec) -> Result<Model> {
-        let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
-        let model: Model = toml::from_str(&text).map_err(|e| Error::Model {
+    /// A model file's text read back (`path` names the file in errors), checked to fit
+    /// `spec` (read from disk by `Model::load` in [`crate::model_file`]).
+    pub fn from_toml(text: &str, path: &Path, spec: &Spec) -> Result<Model> {
+        let model: Model = toml::from_str(text).map_err(|e| Error::Model {
             file: path.to_path_buf(),
             message: format!("not a readable model file: {}", e.message()),
         })?;

@@ -28,7 +28,7 @@ pub const REFUSED_COLUMNS: [&str; 6] = [
     "reason",
 ];
 
-/// Collects the matched pairs as clustering edges, weighted by their evidence.
+/// Collects the matched pairs as clustering edges, with their evidence and prior.
 #[derive(Debug, Default)]
 pub struct MatchEdges {
     /// The edges, in task order.
@@ -43,7 +43,8 @@ impl PairSink for MatchEdges {
             chunk.push(Edge {
                 a: p.a,
                 b: p.b,
-                weight: p.scored.evidence,
+                evidence: p.scored.evidence,
+                prior: p.scored.prior,
             });
         }
     }
@@ -52,6 +53,20 @@ impl PairSink for MatchEdges {
         self.edges.extend(chunk);
         Ok(())
     }
+}
+
+/// Stage what clustering gave: `crosswalk.csv` with each record's customer key and
+/// `refused.csv` (`unique` names the spec's unique attributes); returns the keys.
+pub fn write_clusters(
+    staging: &mut Staging,
+    table: &RecordTable,
+    clusters: &Clusters,
+    unique: &[String],
+) -> Result<Keys> {
+    let keys = crate::keys::assign(table, &clusters.label);
+    write_crosswalk(staging, table, &keys)?;
+    write_refused(staging, table, clusters, unique)?;
+    Ok(keys)
 }
 
 /// Stage `crosswalk.csv`: one row per record with its customer key.
@@ -81,7 +96,7 @@ pub fn write_refused(
             table.id[a].as_str(),
             table.source_name(b),
             table.id[b].as_str(),
-            &format!("{:.4}", e.weight),
+            &format!("{:.4}", e.evidence),
             &why.reason(unique),
         ])?;
     }
@@ -102,9 +117,13 @@ pub fn read_match_edges(path: &Path, table: &RecordTable) -> Result<Vec<Edge>> {
         "source_b",
         "id_b",
         "evidence_bits",
+        "prior_bits",
         "decision",
     ])?;
-    let (wcol, dcol) = (cols[4], cols[5]);
+    let (dcol, bits) = (
+        cols[6],
+        [(cols[4], "evidence_bits"), (cols[5], "prior_bits")],
+    );
     let mut edges = Vec::new();
     rdr.for_each_row(|line, row| {
         if row.get(dcol) != Some(Decision::Match.name()) {
@@ -127,13 +146,17 @@ pub fn read_match_edges(path: &Path, table: &RecordTable) -> Result<Vec<Edge>> {
             })
         };
         let (a, b) = (rec(0, 1)?, rec(2, 3)?);
-        let weight: f64 = row.get(wcol).and_then(|w| w.parse().ok()).ok_or_else(|| {
-            Error::input(
-                path,
-                format!("line {line}: `evidence_bits` is not a number"),
-            )
-        })?;
-        edges.push(Edge { a, b, weight });
+        let [evidence, prior] = bits.map(|(col, name)| {
+            row.get(col)
+                .and_then(|w| w.parse::<f64>().ok())
+                .ok_or_else(|| Error::input(path, format!("line {line}: `{name}` is not a number")))
+        });
+        edges.push(Edge {
+            a,
+            b,
+            evidence: evidence?,
+            prior: prior?,
+        });
         Ok(())
     })?;
     Ok(edges)

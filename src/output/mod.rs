@@ -25,8 +25,10 @@
 use std::io::Write;
 use std::path::Path;
 
+use crate::csvio::{CsvChunk, CsvWriter};
 use crate::error::{Error, Result};
 use crate::sources::Reject;
+use crate::summary::RunSummary;
 
 mod crosswalk;
 mod pairs;
@@ -35,10 +37,23 @@ pub mod staging;
 pub use staging::{CsvOut, Staging};
 
 pub use crosswalk::{
-    read_match_edges, write_crosswalk, write_refused, MatchEdges, CROSSWALK_COLUMNS,
-    REFUSED_COLUMNS,
+    read_match_edges, write_clusters, write_crosswalk, write_refused, MatchEdges,
+    CROSSWALK_COLUMNS, REFUSED_COLUMNS,
 };
 pub use pairs::{pairs_header, review_header, PairsFile, PairsOutput, ReviewFile, PAIR_COLUMNS};
+
+/// The name of the run summary written into `link`'s output folder.
+pub const SUMMARY_FILE: &str = "summary.json";
+
+/// Stage `summary.json`: the run summary, its `outputs` naming every file of the output
+/// set under `out` (`summary.json` included).
+pub fn write_summary(staging: &mut Staging, summary: &mut RunSummary, out: &Path) -> Result<()> {
+    let path = staging.path(SUMMARY_FILE);
+    summary.outputs = staging.files().iter().map(|f| out.join(f)).collect();
+    let text = serde_json::to_string_pretty(&summary.to_json())
+        .map_err(|e| Error::Internal(format!("{SUMMARY_FILE}: {e}")))?;
+    std::fs::write(&path, text + "\n").map_err(|e| Error::write(&path, e))
+}
 
 /// The header of `rejects.csv`.
 pub const REJECT_COLUMNS: [&str; 3] = ["source", "line", "reason"];
@@ -72,24 +87,27 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
     staging::sync_dir(dir)
 }
 
-/// Append `value` to a CSV line, quoting it when it holds a comma, quote or newline.
-pub fn push_field(line: &mut String, value: &str) {
-    if value.contains([',', '"', '\n', '\r']) {
-        line.push('"');
-        line.push_str(&value.replace('"', "\"\""));
-        line.push('"');
-    } else {
-        line.push_str(value);
+/// The rows of `rejects.csv` (without its header, [`REJECT_COLUMNS`]).
+pub fn reject_rows(rejects: &[Reject]) -> CsvChunk {
+    let mut rows = CsvChunk::default();
+    for r in rejects {
+        rows.row([r.source.as_str(), &r.line.to_string(), r.reason.as_str()]);
     }
+    rows
 }
 
 /// Write `rejects.csv` rows.
 pub fn write_rejects(out: &mut CsvOut, rejects: &[Reject]) -> Result<()> {
     out.row(&REJECT_COLUMNS)?;
-    for r in rejects {
-        out.row(&[r.source.as_str(), &r.line.to_string(), r.reason.as_str()])?;
-    }
-    Ok(())
+    out.append(reject_rows(rejects))
+}
+
+/// Write a rejects file outside a run folder (`refresh --rejects`), as one atomic write.
+pub fn write_rejects_file(path: &Path, rejects: &[Reject]) -> Result<()> {
+    let mut w = CsvWriter::on(path, Vec::new());
+    w.row(REJECT_COLUMNS)?;
+    w.append(reject_rows(rejects))?;
+    write_atomic(path, &w.into_inner()?)
 }
 
 #[cfg(test)]
@@ -97,12 +115,18 @@ mod tests {
     use super::*;
 
     #[test]
-    fn quoting() {
-        let mut s = String::new();
-        push_field(&mut s, "a,b \"c\"");
-        assert_eq!(s, "\"a,b \"\"c\"\"\"");
-        let mut s = String::new();
-        push_field(&mut s, "plain");
-        assert_eq!(s, "plain");
+    fn a_rejects_file_quotes_what_needs_quoting() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("rejects.csv");
+        let rejects = [Reject {
+            source: "crm".into(),
+            line: 7,
+            reason: "3 fields, \"id\" and name\nexpected".into(),
+        }];
+        write_rejects_file(&path, &rejects).unwrap();
+        assert_eq!(
+            std::fs::read_to_string(&path).unwrap(),
+            "source,line,reason\ncrm,7,\"3 fields, \"\"id\"\" and name\nexpected\"\n"
+        );
     }
 }

@@ -6,7 +6,9 @@ use crate::decide::{PairSink, ScoredPair};
 use crate::error::Result;
 use crate::record::RecordTable;
 
-use super::{push_field, CsvOut, Staging};
+use super::{CsvOut, Staging};
+use crate::csvio::CsvChunk;
+use crate::decide::BITS_DECIMALS;
 
 /// The first columns of `pairs.csv` and `review.csv`.
 pub const PAIR_COLUMNS: [&str; 8] = [
@@ -47,6 +49,9 @@ pub fn review_header(comparison: &Comparison) -> Vec<String> {
     h
 }
 
+/// Review rows formatted in memory before they are written.
+const REVIEW_ROWS_PER_WRITE: usize = 4096;
+
 /// Which scored pairs go to `pairs.csv`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum PairsOutput {
@@ -57,27 +62,32 @@ pub enum PairsOutput {
     Linked,
 }
 
-/// Append the [`PAIR_COLUMNS`] fields of `p` to a CSV line (no line end).
-fn push_pair_fields(line: &mut String, table: &RecordTable, p: &ScoredPair) {
-    use std::fmt::Write;
-    let (a, b) = (p.a as usize, p.b as usize);
-    push_field(line, table.source_name(a));
-    line.push(',');
-    push_field(line, &table.id[a]);
-    line.push(',');
-    push_field(line, table.source_name(b));
-    line.push(',');
-    push_field(line, &table.id[b]);
-    let s = &p.scored;
-    let _ = write!(
-        line,
-        ",{:.4},{:.4},{:.6},{}",
-        s.evidence,
-        s.prior,
-        s.probability,
-        s.decision.name()
-    );
+impl PairsOutput {
+    /// The name `--pairs` takes and a run's manifest records.
+    pub fn name(self) -> &'static str {
+        match self {
+            PairsOutput::All => "all",
+            PairsOutput::Linked => "linked",
+        }
+    }
 }
+
+/// Write the [`PAIR_COLUMNS`] fields of `p` (the row is left open).
+fn pair_fields(row: &mut CsvChunk, table: &RecordTable, p: &ScoredPair) {
+    let (a, b) = (p.a as usize, p.b as usize);
+    row.field(table.source_name(a));
+    row.field(&table.id[a]);
+    row.field(table.source_name(b));
+    row.field(&table.id[b]);
+    let s = &p.scored;
+    row.number(s.evidence, BITS_DECIMALS);
+    row.number(s.prior, BITS_DECIMALS);
+    row.number(s.probability, PROBABILITY_DECIMALS);
+    row.field(s.decision.name());
+}
+
+/// Decimals of `probability` in the files.
+const PROBABILITY_DECIMALS: usize = 6;
 
 /// `pairs.csv`: one row per scored pair (or per linked pair), in task order.
 #[derive(Debug)]
@@ -113,24 +123,22 @@ impl<'a> PairsFile<'a> {
 }
 
 impl PairSink for PairsFile<'_> {
-    type Chunk = String;
+    type Chunk = CsvChunk;
 
-    fn add(&self, text: &mut String, p: &ScoredPair) {
-        use std::fmt::Write;
+    fn add(&self, rows: &mut CsvChunk, p: &ScoredPair) {
         if self.which == PairsOutput::Linked && p.decision() == Decision::NonMatch {
             return;
         }
-        push_pair_fields(text, self.table, p);
+        pair_fields(rows, self.table, p);
         for (k, c) in self.comparison.comparators.iter().enumerate() {
-            text.push(',');
-            push_field(text, c.level_name(p.gamma[k]));
-            let _ = write!(text, ",{:.4}", p.bits[k]);
+            rows.field(c.level_name(p.gamma[k]));
+            rows.number(p.bits[k], BITS_DECIMALS);
         }
-        text.push('\n');
+        rows.end_row();
     }
 
-    fn flush(&mut self, text: String) -> Result<()> {
-        self.out.raw(text.as_bytes())
+    fn flush(&mut self, rows: CsvChunk) -> Result<()> {
+        self.out.append(rows)
     }
 }
 
@@ -176,22 +184,21 @@ impl<'a> ReviewFile<'a> {
                 .then(x.b.cmp(&y.b))
         });
         let table = self.table;
-        let mut line = String::new();
-        for p in &self.pairs {
-            use std::fmt::Write;
-            line.clear();
-            push_pair_fields(&mut line, table, p);
-            let (a, b) = (p.a as usize, p.b as usize);
-            for (k, c) in self.comparison.comparators.iter().enumerate() {
-                line.push(',');
-                push_field(&mut line, c.level_name(p.gamma[k]));
-                let _ = write!(line, ",{:.4},", p.bits[k]);
-                push_field(&mut line, table.get(a, c.attr).unwrap_or(""));
-                line.push(',');
-                push_field(&mut line, table.get(b, c.attr).unwrap_or(""));
+        // Written in slices, so that the memory held besides the pairs stays bounded.
+        for slice in self.pairs.chunks(REVIEW_ROWS_PER_WRITE) {
+            let mut rows = CsvChunk::default();
+            for p in slice {
+                pair_fields(&mut rows, table, p);
+                let (a, b) = (p.a as usize, p.b as usize);
+                for (k, c) in self.comparison.comparators.iter().enumerate() {
+                    rows.field(c.level_name(p.gamma[k]));
+                    rows.number(p.bits[k], BITS_DECIMALS);
+                    rows.field(table.get(a, c.attr).unwrap_or(""));
+                    rows.field(table.get(b, c.attr).unwrap_or(""));
+                }
+                rows.end_row();
             }
-            line.push('\n');
-            w.raw(line.as_bytes())?;
+            w.append(rows)?;
         }
         w.finish()
     }

@@ -34,6 +34,7 @@ use std::fs::File;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+use crate::csvio::{CsvChunk, CsvWriter};
 use crate::error::{Error, Result};
 
 /// Name of the lock file inside the output folder.
@@ -327,16 +328,11 @@ impl Staging {
     /// and records its header and row count for the manifest.
     pub fn csv(&mut self, name: &str) -> Result<CsvOut> {
         let path = self.path(name);
-        let file = File::create(&path).map_err(|e| Error::write(&path, e))?;
         Ok(CsvOut {
             name: name.to_string(),
-            path,
-            w: std::io::BufWriter::with_capacity(1 << 20, file),
-            rows: 0,
+            w: CsvWriter::create(&path)?,
             header: None,
             counted: self.counted.clone(),
-            in_quotes: false,
-            line: Vec::new(),
         })
     }
 
@@ -598,79 +594,49 @@ fn civil_from_days(z: i64) -> (i64, u32, u32) {
 /// Header and row counts of the finished CSV files of a run.
 type Counted = std::sync::Arc<std::sync::Mutex<Vec<FileEntry>>>;
 
-/// A CSV file being written into a run folder; fields are quoted when needed. It counts
+/// A CSV file being written into a run folder through [`CsvWriter`]. It counts
 /// its rows and keeps its header for the run's manifest.
 #[derive(Debug)]
 pub struct CsvOut {
     name: String,
-    path: PathBuf,
-    w: std::io::BufWriter<File>,
-    rows: u64,
+    w: CsvWriter<File>,
     header: Option<String>,
-    in_quotes: bool,
-    line: Vec<u8>,
     counted: Counted,
 }
 
 impl CsvOut {
-    /// Write one row.
+    /// Write one row; the first row written is the file's header.
     pub fn row<S: AsRef<str>>(&mut self, fields: &[S]) -> Result<()> {
-        let mut line = String::with_capacity(64);
-        for (i, f) in fields.iter().enumerate() {
-            if i > 0 {
-                line.push(',');
+        if self.header.is_none() {
+            let mut chunk = CsvChunk::default();
+            chunk.row(fields.iter().map(|f| f.as_ref()));
+            let (bytes, _) = chunk.into_bytes(self.w.path())?;
+            let mut h = String::from_utf8_lossy(&bytes).into_owned();
+            while h.ends_with(['\n', '\r']) {
+                h.pop();
             }
-            super::push_field(&mut line, f.as_ref());
+            self.header = Some(h);
         }
-        line.push('\n');
-        self.raw(line.as_bytes())
+        self.w.row(fields.iter().map(|f| f.as_ref()))
     }
 
-    /// Write bytes that are already CSV (whole records, each ending in a line feed).
-    pub fn raw(&mut self, bytes: &[u8]) -> Result<()> {
-        // Count records: line feeds outside quoted fields. The first record is the header.
-        for &b in bytes {
-            if self.header.is_none() {
-                self.line.push(b);
-            }
-            match b {
-                b'"' => self.in_quotes = !self.in_quotes,
-                b'\n' if !self.in_quotes => {
-                    if self.header.is_none() {
-                        let mut h = String::from_utf8_lossy(&self.line).into_owned();
-                        while h.ends_with(['\n', '\r']) {
-                            h.pop();
-                        }
-                        self.header = Some(h);
-                        self.line = Vec::new();
-                    } else {
-                        self.rows += 1;
-                    }
-                }
-                _ => {}
-            }
-        }
-        self.w
-            .write_all(bytes)
-            .map_err(|e| Error::write(&self.path, e))
+    /// Write rows formatted elsewhere (e.g. on worker threads), after the rows so far.
+    pub fn append(&mut self, chunk: CsvChunk) -> Result<()> {
+        self.w.append(chunk)
     }
 
     /// Flush and fsync; records the file's header and row count for the manifest.
     pub fn finish(self) -> Result<()> {
-        let file = self
-            .w
-            .into_inner()
-            .map_err(|e| Error::write(&self.path, e.into_error()))?;
-        file.sync_all().map_err(|e| Error::write(&self.path, e))?;
-        let bytes = file
-            .metadata()
-            .map_err(|e| Error::write(&self.path, e))?
-            .len();
+        let path = self.w.path().to_path_buf();
+        let rows = self.w.records().saturating_sub(1);
+        let file = self.w.into_inner()?;
+        file.sync_all().map_err(|e| Error::write(&path, e))?;
+        let bytes = file.metadata().map_err(|e| Error::write(&path, e))?.len();
         let entry = FileEntry {
             name: self.name,
             bytes,
             header: self.header,
-            rows: Some(self.rows),
+            rows: Some(rows),
         };
         if let Ok(mut c) = self.counted.lock() {
             c.push(entry);
@@ -725,7 +691,10 @@ mod tests {
         let mut w = st.csv("a.csv").unwrap();
         w.row(&["x", "y"]).unwrap();
         w.row(&["1", "two\nlines"]).unwrap();
-        w.raw(b"2,\"q\"\"\"\n3,z\n").unwrap();
+        let mut chunk = CsvChunk::default();
+        chunk.row(["2", "q\""]);
+        chunk.row(["3", "z"]);
+        w.append(chunk).unwrap();
         w.finish().unwrap();
         st.set_meta("shard", "1/2");
         let id = st.run_id().to_string();

@@ -122,7 +122,8 @@ pub fn link_in_memory(spec: &Spec, model: Option<Model>, progress: bool) -> Resu
         .map(|e| Edge {
             a: e.a,
             b: e.b,
-            weight: e.scored.evidence,
+            evidence: e.scored.evidence,
+            prior: e.scored.prior,
         })
         .collect();
     let guards = SpecGuards::new(spec, &prepared.table, &prepared.comparison);

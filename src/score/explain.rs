@@ -191,11 +191,9 @@ fn raw_of(spec: &Spec, (src, id): (&str, &str)) -> Result<HashMap<Attr, String>>
 mod tests {
     use super::*;
     use crate::prepare::PrepareOptions;
-    use std::path::Path;
 
     fn setup() -> (Spec, Prepared, Model) {
-        let p = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/mini/spec.toml");
-        let spec = Spec::load(&p).unwrap();
+        let spec = crate::testdata::mini_spec();
         let prepared = Prepared::new(&spec, PrepareOptions::default()).unwrap();
         let model = crate::model::train::train(&spec, &prepared, &crate::util::Progress::hidden())
             .unwrap()

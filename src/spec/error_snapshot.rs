@@ -8,7 +8,7 @@ use super::Spec;
 use crate::error::Error;
 
 /// A spec that passes validation; the cases below each break one thing in it.
-const GOOD: &str = r#"version = 1
+pub(super) const GOOD: &str = r#"version = 1
 [[source]]
 name = "crm"
 path = "crm.csv"

@@ -185,46 +185,8 @@ mod tests {
     use crate::compare::Level;
     use crate::standardize::{DateOrder, NameOrder};
 
-    const GOOD: &str = r#"
-version = 1
-[[source]]
-name = "crm"
-path = "crm.csv"
-id = "id"
-country = "us"
-date_order = "mdy"
-[source.columns]
-given_name = "first"
-family_name = "last"
-birth_date = "dob"
-[[source]]
-name = "shop"
-path = "data/shop.csv"
-id = "account"
-name_order = "family_first"
-[source.columns]
-full_name = "name"
-email = "mail"
-[[compare]]
-attribute = "family_name"
-levels = ["exact", "translit", "jaro_winkler >= 0.92"]
-frequency = true
-[[compare]]
-attribute = "birth_date"
-levels = ["exact", "date_swap", "same_year"]
-[[block]]
-name = "name"
-keys = ["soundex(family_name)", "prefix(birth_date, 4)"]
-[decide]
-match_at = 0.95
-review_at = 0.4
-[model]
-seed = 7
-[cluster]
-max_size = 20
-one_record_per_source = ["shop"]
-unique = ["email"]
-"#;
+    /// A spec that passes validation (the one the error snapshot breaks case by case).
+    use super::error_snapshot::GOOD;
 
     fn parse(text: &str) -> Result<Spec> {
         Spec::parse(text, Path::new("/tmp/x/spec.toml"))

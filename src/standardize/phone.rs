@@ -1126,6 +1126,17 @@ mod tests {
         normalize_phone(raw, region).into_value()
     }
 
+    /// Each `(raw, default region, expected E.164)` row standardizes to its expected value.
+    fn assert_e164(rows: &[(&str, &str, &str)]) {
+        for &(raw, region, want) in rows {
+            assert_eq!(
+                e164(raw, Some(region)).as_deref(),
+                Some(want),
+                "{raw} (default region {region})"
+            );
+        }
+    }
+
     #[test]
     fn check_values_valid_numbers() {
         // docs/check-values.md §5: phonenumbers 9.0.43 and Rust phonenumber 0.3.10+9.0.33
@@ -1401,53 +1412,27 @@ mod tests {
     fn foreign_numbers_with_a_country_code_keep_it_whatever_the_default_region() {
         // phonenumber 0.3.10 with default region US strips the `1` of `+44 141 ...`;
         // expected values are the numbers as written (ITU-T E.164: + country code + national).
-        assert_eq!(
-            e164("+44 141 496 0369", Some("US")).as_deref(),
-            Some("+441414960369")
-        );
-        assert_eq!(
-            e164("+49 151 12345678", Some("US")).as_deref(),
-            Some("+4915112345678")
-        );
-        assert_eq!(
-            e164("011 44 141 496 0369", Some("US")).as_deref(),
-            Some("+441414960369")
-        );
-        assert_eq!(
-            e164("0044 141 496 0369", Some("DE")).as_deref(),
-            Some("+441414960369")
-        );
-        assert_eq!(
-            e164("+1 202-555-0143", Some("GB")).as_deref(),
-            Some("+12025550143")
-        );
+        assert_e164(&[
+            ("+44 141 496 0369", "US", "+441414960369"),
+            ("+49 151 12345678", "US", "+4915112345678"),
+            ("011 44 141 496 0369", "US", "+441414960369"),
+            ("0044 141 496 0369", "DE", "+441414960369"),
+            ("+1 202-555-0143", "GB", "+12025550143"),
+        ]);
     }
 
     #[test]
     fn extensions_and_prefixes() {
         // Extension forms (libphonenumber extension patterns, from memory); 011 is the
         // NANP international prefix (ITU-T E.164 Annex / NANPA, common practice).
-        assert_eq!(
-            e164("(650) 253-0000 x123", Some("US")).as_deref(),
-            Some("+16502530000")
-        );
-        assert_eq!(
-            e164("650-253-0000 ext 9", Some("US")).as_deref(),
-            Some("+16502530000")
-        );
-        assert_eq!(
-            e164("011 49 30 12345678", Some("US")).as_deref(),
-            Some("+493012345678")
-        );
-        assert_eq!(
-            e164("1 650 253 0000", Some("US")).as_deref(),
-            Some("+16502530000")
-        );
-        // Country other than the default: the number's own code wins.
-        assert_eq!(
-            e164("+49 30 12345678", Some("US")).as_deref(),
-            Some("+493012345678")
-        );
+        assert_e164(&[
+            ("(650) 253-0000 x123", "US", "+16502530000"),
+            ("650-253-0000 ext 9", "US", "+16502530000"),
+            ("011 49 30 12345678", "US", "+493012345678"),
+            ("1 650 253 0000", "US", "+16502530000"),
+            // Country other than the default: the number's own code wins.
+            ("+49 30 12345678", "US", "+493012345678"),
+        ]);
     }
 
     #[test]
@@ -1486,22 +1471,12 @@ mod tests {
         // Vienna numbers start with 1 and Italian fixed lines with 0 (from memory);
         // libphonenumber keeps them whatever the default region, phonenumber 0.3.10
         // strips them as the default region's trunk prefix.
-        assert_eq!(
-            e164("+43 1 545054776", Some("US")).as_deref(),
-            Some("+431545054776")
-        );
-        assert_eq!(
-            e164("011 43 1 545054776", Some("US")).as_deref(),
-            Some("+431545054776")
-        );
-        assert_eq!(
-            e164("0043 1 545054776", Some("DE")).as_deref(),
-            Some("+431545054776")
-        );
-        assert_eq!(
-            e164("+39 05 9113886", Some("DE")).as_deref(),
-            Some("+39059113886")
-        );
+        assert_e164(&[
+            ("+43 1 545054776", "US", "+431545054776"),
+            ("011 43 1 545054776", "US", "+431545054776"),
+            ("0043 1 545054776", "DE", "+431545054776"),
+            ("+39 05 9113886", "DE", "+39059113886"),
+        ]);
         let n = phonenumber::parse(Some(Id::US), "+431545054776").unwrap();
         assert!(
             !n.is_valid(),

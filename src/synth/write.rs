@@ -5,8 +5,6 @@
 //! (a linkage spec for the three files), and a [`Summary`] of what was written.
 
 use std::fmt;
-use std::fs::File;
-use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
 use super::{Dataset, NoiseKind, NoiseStats, Source};
@@ -197,17 +195,14 @@ fn write_source(data: &Dataset, source: Source, path: &Path) -> crate::Result<()
 
 /// Write the truth file.
 fn write_truth(data: &Dataset, path: &Path) -> crate::Result<()> {
-    let file = File::create(path).map_err(|e| Error::write(path, e))?;
-    let mut w = BufWriter::with_capacity(1 << 20, file);
-    let io = |e| Error::write(path, e);
-    writeln!(w, "source,source_id,entity_id").map_err(io)?;
+    let mut w = CsvWriter::create(path)?;
+    w.row(["source", "source_id", "entity_id"])?;
     for s in Source::ALL {
         for r in data.table(s).records() {
-            // Ids and names are plain ASCII without commas or quotes: no quoting needed.
-            writeln!(w, "{},{},{}", s.name(), r.id(), r.entity_id()).map_err(io)?;
+            w.row([s.name(), &r.id(), &r.entity_id()])?;
         }
     }
-    w.flush().map_err(io)
+    w.finish()
 }
 
 /// Write `data` into `dir` (created if missing): three source files, `truth.csv` and

@@ -51,17 +51,18 @@ pub fn read_csv(path: &Path) -> Vec<Vec<String>> {
         .collect()
 }
 
-/// `samekey link` on `dir/spec.toml` into `dir/out`, with extra flags and threads.
-pub fn link(
-    dir: &std::path::Path,
+/// `samekey COMMAND --spec dir/spec.toml --out dir/OUT`, with extra flags and threads.
+fn spec_command(
+    command: &str,
+    dir: &Path,
     out: &str,
     extra: &[&str],
     threads: Option<usize>,
-) -> std::process::Output {
+) -> Output {
     let spec = dir.join("spec.toml");
     let out = dir.join(out);
     let mut args = vec![
-        "link",
+        command,
         "--spec",
         spec.to_str().unwrap(),
         "--out",
@@ -69,4 +70,38 @@ pub fn link(
     ];
     args.extend_from_slice(extra);
     run(&args, threads)
+}
+
+/// `samekey link` on `dir/spec.toml` into `dir/out`, with extra flags and threads.
+pub fn link(dir: &Path, out: &str, extra: &[&str], threads: Option<usize>) -> Output {
+    spec_command("link", dir, out, extra, threads)
+}
+
+/// `samekey train` on `dir/spec.toml` into the folder `dir/out`, with extra flags.
+pub fn train_run(dir: &Path, out: &str, extra: &[&str]) -> Output {
+    spec_command("train", dir, out, extra, None)
+}
+
+/// `samekey --quiet train` into `dir/out`, which must succeed; the model file written.
+pub fn train(dir: &Path, out: &str) -> PathBuf {
+    let o = train_run(dir, out, &["--quiet"]);
+    assert!(o.status.success(), "{}", text(&o).1);
+    dir.join(out).join("model.toml")
+}
+
+/// `samekey explain` of records `a` and `b` (`source:id`) with `dir/spec.toml` and
+/// `model`, with extra flags.
+pub fn explain(dir: &Path, model: &Path, a: &str, b: &str, extra: &[&str]) -> Output {
+    let spec = dir.join("spec.toml");
+    let mut args = vec![
+        "explain",
+        "--spec",
+        spec.to_str().unwrap(),
+        "--model",
+        model.to_str().unwrap(),
+        a,
+        b,
+    ];
+    args.extend_from_slice(extra);
+    run(&args, None)
 }
