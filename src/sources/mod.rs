@@ -285,6 +285,41 @@ struct SourceReader<'a> {
     file_bytes: u64,
 }
 
+impl<'a> SourceReader<'a> {
+    /// Open `src`'s file (read through a buffer of `buffer` bytes), read its header and
+    /// find the id and mapped columns.
+    fn open(src: &'a SourceSpec, buffer: usize) -> Result<SourceReader<'a>> {
+        let path = src.path.as_path();
+        let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+        let file_bytes = file.metadata().map_or(0, |m| m.len());
+        let mut reader = open_csv(src, file, buffer);
+        let headers = read_headers(&mut reader, path, src.delimiter)?;
+        let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;
+        let mut mapped: Vec<(Attr, usize)> = Vec::new();
+        for (attr, header) in &src.columns {
+            let at = find_column(&headers, header, path, &src.name, attr.name())?;
+            mapped.push((*attr, at));
+        }
+        Ok(SourceReader {
+            src,
+            reader,
+            read: read_columns(headers.len(), id_at, &mapped),
+            headers,
+            id_at,
+            mapped,
+            record: csv::ByteRecord::new(),
+            report: SourceReport {
+                name: src.name.clone(),
+                ..Default::default()
+            },
+            rejects: Vec::new(),
+            done: false,
+            file_bytes,
+            fatal: None,
+        })
+    }
+}
+
 impl SourceReader<'_> {
     fn reject(&mut self, line: u64, reason: String) {
         self.report.rejected += 1;
@@ -442,35 +477,8 @@ fn load_source(
     if src.database.is_some() {
         return database::load_source(src, index, builder, rejects, totals, progress, chunking);
     }
-    let path = src.path.as_path();
-    let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-    let file_bytes = file.metadata().map_or(0, |m| m.len());
-    let mut reader = open_csv(src, file, 1 << 20);
-    let headers = read_headers(&mut reader, path, src.delimiter)?;
-    let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;
-    let mut mapped: Vec<(Attr, usize)> = Vec::new();
-    for (attr, header) in &src.columns {
-        let at = find_column(&headers, header, path, &src.name, attr.name())?;
-        mapped.push((*attr, at));
-    }
-    let attrs: Vec<Attr> = mapped.iter().map(|&(a, _)| a).collect();
-    let mut input = SourceReader {
-        src,
-        reader,
-        read: read_columns(headers.len(), id_at, &mapped),
-        headers,
-        id_at,
-        mapped,
-        record: csv::ByteRecord::new(),
-        report: SourceReport {
-            name: src.name.clone(),
-            ..Default::default()
-        },
-        rejects: Vec::new(),
-        done: false,
-        file_bytes,
-        fatal: None,
-    };
+    let mut input = SourceReader::open(src, 1 << 20)?;
+    let attrs: Vec<Attr> = input.mapped.iter().map(|&(a, _)| a).collect();
 
     let first_row = builder.len();
     let mut lines: Vec<u64> = Vec::new();
@@ -480,7 +488,8 @@ fn load_source(
     let mut current = input.read_chunk(chunk_rows, first);
     // Reserve for the rest of the input, estimated from the first chunk's bytes per row.
     if current.rows() > 0 && current.bytes > 0 {
-        let rows = (file_bytes as f64 * current.rows() as f64 / current.bytes as f64) as usize;
+        let rows =
+            (input.file_bytes as f64 * current.rows() as f64 / current.bytes as f64) as usize;
         builder.expect(rows);
         lines.reserve(rows);
     }
@@ -524,7 +533,7 @@ fn load_source(
             .map(|(id, a, b)| format!("`{id}` (lines {a} and {b})"))
             .collect();
         return Err(Error::input(
-            path,
+            &src.path,
             format!(
                 "{} duplicate id(s) in column `{}`: {}{}; ids must be unique within a source \
                  (remove the repeated rows or map a different id column)",
@@ -546,30 +555,7 @@ pub fn raw_values(src: &SourceSpec, id: &str) -> Result<Option<Vec<(Attr, String
     if src.database.is_some() {
         return database::raw_values(src, id);
     }
-    let path = src.path.as_path();
-    let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-    let mut reader = open_csv(src, file, 64 << 10);
-    let headers = read_headers(&mut reader, path, src.delimiter)?;
-    let id_at = find_column(&headers, &src.id_column, path, &src.name, "id")?;
-    let mut mapped: Vec<(Attr, usize)> = Vec::new();
-    for (attr, header) in &src.columns {
-        let at = find_column(&headers, header, path, &src.name, attr.name())?;
-        mapped.push((*attr, at));
-    }
-    let mut input = SourceReader {
-        src,
-        reader,
-        read: read_columns(headers.len(), id_at, &mapped),
-        headers,
-        id_at,
-        mapped,
-        record: csv::ByteRecord::new(),
-        report: SourceReport::default(),
-        rejects: Vec::new(),
-        done: false,
-        file_bytes: 0,
-        fatal: None,
-    };
+    let mut input = SourceReader::open(src, 64 << 10)?;
     let n = input.mapped.len();
     let attrs: Vec<Attr> = input.mapped.iter().map(|&(a, _)| a).collect();
     let mut chunk = RawChunk::default();
