@@ -116,7 +116,7 @@ pub fn run_id() -> String {
         .duration_since(std::time::UNIX_EPOCH)
         .unwrap_or_default();
     let secs = now.as_secs();
-    let (y, m, d) = civil_from_days((secs / 86_400) as i64);
+    let (y, m, d) = crate::util::civil::civil_from_days((secs / 86_400) as i64);
     let t = secs % 86_400;
     let salt = crate::util::mix64(now.as_nanos() as u64 ^ (u64::from(std::process::id()) << 32));
     format!(
@@ -126,21 +126,6 @@ pub fn run_id() -> String {
         t % 60,
         salt >> 40
     )
-}
-
-/// (year, month, day) of a day count since 1970-01-01 (proleptic Gregorian calendar;
-/// the "days from civil" inverse of Howard Hinnant's date algorithms, public domain).
-fn civil_from_days(z: i64) -> (i64, u32, u32) {
-    let z = z + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z.rem_euclid(146_097);
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let y = yoe + era * 400;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let d = (doy - (153 * mp + 2) / 5 + 1) as u32;
-    let m = if mp < 10 { mp + 3 } else { mp - 9 } as u32;
-    (if m <= 2 { y + 1 } else { y }, m, d)
 }
 
 fn file_names(paths: &[PathBuf]) -> Vec<String> {
@@ -266,16 +251,6 @@ pub fn train_json(
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn civil_dates_from_day_counts() {
-        // 1970-01-01 is day 0; 2000-03-01 is day 11017; 2026-12-03 is day 20790
-        // (day counts computed by hand from the Gregorian calendar).
-        assert_eq!(civil_from_days(0), (1970, 1, 1));
-        assert_eq!(civil_from_days(11_017), (2000, 3, 1));
-        assert_eq!(civil_from_days(11_016), (2000, 2, 29));
-        assert_eq!(civil_from_days(20_790), (2026, 12, 3));
-    }
 
     #[test]
     fn run_ids_sort_by_time_and_differ() {

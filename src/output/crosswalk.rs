@@ -13,7 +13,7 @@ use crate::error::{Error, Result};
 use crate::keys::Keys;
 use crate::record::RecordTable;
 
-use super::Staging;
+use super::{Staging, PAIR_COLUMNS};
 
 /// The header of `crosswalk.csv`.
 pub const CROSSWALK_COLUMNS: [&str; 3] = ["source", "source_id", "customer_key"];
@@ -111,17 +111,10 @@ pub fn read_match_edges(path: &Path, table: &RecordTable) -> Result<Vec<Edge>> {
         index.insert((table.source_name(r), table.id[r].as_str()), r as u32);
     }
     let mut rdr = CsvTable::open(path, false)?;
-    let cols = rdr.columns(&[
-        "source_a",
-        "id_a",
-        "source_b",
-        "id_b",
-        "evidence_bits",
-        "prior_bits",
-        "decision",
-    ])?;
+    // The columns of PAIR_COLUMNS: records 0-3, evidence 4, prior 5, decision 7.
+    let cols = rdr.columns(&PAIR_COLUMNS)?;
     let (dcol, bits) = (
-        cols[6],
+        cols[7],
         [(cols[4], "evidence_bits"), (cols[5], "prior_bits")],
     );
     let mut edges = Vec::new();

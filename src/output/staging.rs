@@ -563,32 +563,7 @@ pub fn new_run_id() -> String {
 
 /// Now as `YYYY-MM-DDTHH:MM:SSZ` (UTC).
 pub fn utc_timestamp() -> String {
-    let secs = std::time::SystemTime::now()
-        .duration_since(std::time::UNIX_EPOCH)
-        .map_or(0, |d| d.as_secs());
-    let (days, rem) = (secs / 86_400, secs % 86_400);
-    let (y, m, d) = civil_from_days(days as i64);
-    format!(
-        "{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:02}Z",
-        rem / 3600,
-        rem % 3600 / 60,
-        rem % 60
-    )
-}
-
-/// Days since 1970-01-01 to (year, month, day) in the proleptic Gregorian calendar
-/// (H. Hinnant, "chrono-Compatible Low-Level Date Algorithms", `civil_from_days`).
-fn civil_from_days(z: i64) -> (i64, u32, u32) {
-    let z = z + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z.rem_euclid(146_097);
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let d = (doy - (153 * mp + 2) / 5 + 1) as u32;
-    let m = if mp < 10 { mp + 3 } else { mp - 9 } as u32;
-    let y = yoe + era * 400 + i64::from(m <= 2);
-    (y, m, d)
+    crate::util::civil::utc_now()
 }
 
 /// Header and row counts of the finished CSV files of a run.
@@ -771,13 +746,5 @@ mod tests {
         let e = check_out_dir(&f.join("sub/deeper"), "--out").unwrap_err();
         assert!(e.to_string().contains("which is a file"), "{e}");
         check_out_dir(&dir.path().join("new/folder"), "--out").unwrap();
-    }
-
-    #[test]
-    fn civil_dates() {
-        // Checked by hand against the calendar (common practice, no source).
-        assert_eq!(civil_from_days(0), (1970, 1, 1));
-        assert_eq!(civil_from_days(11_016), (2000, 2, 29));
-        assert_eq!(civil_from_days(20_425), (2025, 12, 3));
     }
 }

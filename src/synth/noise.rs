@@ -270,20 +270,8 @@ impl Date {
     /// Date of day number `z` counted from 1970-01-01 (H. Hinnant, "chrono-Compatible
     /// Low-Level Date Algorithms", civil_from_days).
     pub fn from_days(z: i64) -> Date {
-        let z = z + 719_468;
-        let era = z.div_euclid(146_097);
-        let doe = z.rem_euclid(146_097);
-        let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-        let y = yoe + era * 400;
-        let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-        let mp = (5 * doy + 2) / 153;
-        let d = (doy - (153 * mp + 2) / 5 + 1) as u32;
-        let m = if mp < 10 { mp + 3 } else { mp - 9 } as u32;
-        Date {
-            y: (if m <= 2 { y + 1 } else { y }) as i32,
-            m,
-            d,
-        }
+        let (y, m, d) = crate::util::civil::civil_from_days(z);
+        Date { y: y as i32, m, d }
     }
 
     /// Day number counted from 1970-01-01 (Hinnant, days_from_civil).

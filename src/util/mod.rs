@@ -1,6 +1,7 @@
 //! Small shared helpers: a deterministic random number generator, stable hashing,
 //! progress display and CPU clocks.
 
+pub mod civil;
 pub mod cpu;
 pub mod progress;
 pub mod rng;
