@@ -15,7 +15,7 @@
 //!    blocking key is built from always agrees on that key's pairs, so it is treated as
 //!    missing for those pairs in this step (the blocking-bias treatment of Jaro 1989,
 //!    without a separate fit per key), and the key that found the pair is one more
-//!    observed variable, which gives each key class shares of its own ([`found_by`]).
+//!    observed variable, which gives each key class shares of its own (`found_by`).
 //!    Each class is then named "same person" or not by
 //!    a label-free rule on its *identifying attributes* ([`identifying_attributes`]):
 //!    a class is the same person when it rarely disagrees on them. K is the number of
