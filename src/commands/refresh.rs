@@ -6,9 +6,11 @@ use std::path::{Path, PathBuf};
 
 use anyhow::Context;
 use samekey::model::Model;
-use samekey::refresh::{self, RefreshSummary};
+use samekey::refresh::{self, LinkMode, RefreshSummary};
 use samekey::spec::Spec;
 use samekey::store::{self, Store};
+use samekey::util::Timings;
+use std::time::Instant;
 
 use super::{Global, Hint};
 
@@ -26,9 +28,16 @@ pub struct Args {
     /// Fit a new model instead of scoring with the store's latest model for this spec.
     #[arg(long)]
     pub refit: bool,
+    /// Compare every candidate pair, even when few records changed (by default only the
+    /// pairs of new and changed records are compared when that gives the same result).
+    #[arg(long)]
+    pub full: bool,
     /// Show what the refresh would do, without committing anything.
     #[arg(long)]
     pub dry_run: bool,
+    /// Print the wall time of each stage on stderr.
+    #[arg(long)]
+    pub timings: bool,
     /// Write rejected rows to this CSV file.
     #[arg(long, value_name = "FILE")]
     pub rejects: Option<PathBuf>,
@@ -98,7 +107,9 @@ fn refresh_locked(
     store: &mut Store,
     started_at: String,
 ) -> anyhow::Result<RefreshSummary> {
+    let clock = Instant::now();
     let prev = store.previous()?;
+    let mut timings = Timings::default();
     let model = if args.refit {
         None
     } else {
@@ -107,20 +118,42 @@ fn refresh_locked(
             None => None,
         }
     };
-    let linked = refresh::link_in_memory(spec, model, !global.quiet)?;
+    timings.record("read the store and model", clock);
+    let opts = refresh::LinkOptions {
+        spec_text,
+        progress: !global.quiet,
+        full: args.full,
+    };
+    let linked = refresh::link_in_memory(spec, model, opts, &prev, &mut || store.edges())?;
+    timings.extend(&linked.timings);
+    let mut clock = Instant::now();
     pause_point("linked");
     if let Some(path) = &args.rejects {
         samekey::output::write_rejects_file(path, &linked.rejects)?;
     }
     let (mut run, summary) = refresh::plan_run(spec_text, spec, &prev, &linked, started_at)?;
+    drop(linked);
+    drop(prev);
+    clock = timings.record("keys and changes", clock);
     if args.dry_run {
         store.rollback()?;
-        return Ok(summary);
+    } else {
+        run.finished_at = store::now_utc();
+        store.write_run(&run)?;
+        pause_point("written");
+        store.commit()?;
+        timings.record("write and commit", clock);
     }
-    run.finished_at = store::now_utc();
-    store.write_run(&run)?;
-    pause_point("written");
-    store.commit()?;
+    if args.timings {
+        for (stage, d) in &timings.stages {
+            eprintln!("timing: {stage:<32} {:>8.2} s", d.as_secs_f64());
+        }
+        eprintln!(
+            "timing: {:<32} {:>8.2} s",
+            "total",
+            timings.total().as_secs_f64()
+        );
+    }
     Ok(summary)
 }
 
@@ -153,6 +186,20 @@ pub fn print_summary(s: &RefreshSummary, location: &str, dry_run: bool) {
          customer {}",
         s.records, s.customers, s.match_edges, s.review_edges, s.moved
     );
+    match &s.mode {
+        LinkMode::Full { reason } => {
+            println!("  linking: full, every candidate pair compared ({reason})")
+        }
+        LinkMode::Incremental {
+            changed,
+            deleted,
+            compared,
+            reused,
+        } => println!(
+            "  linking: incremental, {changed} new or changed and {deleted} deleted record(s); \
+             {compared} candidate pair(s) compared, {reused} stored pair(s) reused"
+        ),
+    }
     println!(
         "  model: {}",
         if s.fitted {

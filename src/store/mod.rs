@@ -125,6 +125,9 @@ pub struct Previous {
     pub keys: Vec<IssuedKey>,
     /// Fingerprint of each current record's standardized values.
     pub fingerprints: HashMap<(String, String), String>,
+    /// The last run's link fingerprint (samekey version, spec and model), empty when
+    /// unknown (a store written before version 3).
+    pub link_fingerprint: String,
 }
 
 /// One key event of a run.
@@ -215,8 +218,17 @@ pub struct RunRecord {
     pub retired_keys: Vec<String>,
     /// Key events.
     pub events: Vec<EventRow>,
-    /// The kept edges of this run (replace the previous run's).
+    /// Fingerprint of what decides a pair's score: samekey's version, the spec text and
+    /// the model.
+    pub link_fingerprint: String,
+    /// True when only the pairs of new and changed records were compared.
+    pub incremental: bool,
+    /// The kept edges to write: all of them (replacing the stored ones) when
+    /// `edges_dropped` is `None`; otherwise only the new ones.
     pub edges: Vec<EdgeRow>,
+    /// For an incremental run: the records whose stored edges are dropped (changed and
+    /// deleted records) before `edges` are added; the other stored edges stay.
+    pub edges_dropped: Option<Vec<(String, String)>>,
     /// Record fingerprints to set (new or changed records).
     pub set_fingerprints: Vec<(String, String, String)>,
     /// Record fingerprints to drop (deleted records, and changed records before their
@@ -449,12 +461,45 @@ impl Store {
         )? {
             fingerprints.insert((row[0].text(), row[1].text()), row[2].text());
         }
+        let link_fingerprint = match last_run {
+            Some(run) => self
+                .db
+                .query(
+                    "SELECT link_fingerprint FROM runs WHERE run_id = $1",
+                    &[run.into()],
+                )?
+                .first()
+                .map(|r| r[0].text())
+                .unwrap_or_default(),
+            None => String::new(),
+        };
         Ok(Previous {
             last_run,
             crosswalk,
             keys,
             fingerprints,
+            link_fingerprint,
         })
+    }
+
+    /// The stored edges (match and review pairs kept by the runs since the last full
+    /// one).
+    pub fn edges(&mut self) -> Result<Vec<EdgeRow>> {
+        Ok(self
+            .db
+            .query(
+                "SELECT source_a, id_a, source_b, id_b, weight, probability, decision FROM edges",
+                &[],
+            )?
+            .into_iter()
+            .map(|r| EdgeRow {
+                a: (r[0].text(), r[1].text()),
+                b: (r[2].text(), r[3].text()),
+                weight: real(&r[4]),
+                probability: real(&r[5]),
+                decision: r[6].text(),
+            })
+            .collect())
     }
 
     /// The most recent stored model fitted for this spec layout, as TOML.
@@ -474,8 +519,8 @@ impl Store {
             "INSERT INTO runs (run_id, started_at, finished_at, spec_fingerprint, \
              model_fingerprint, records, customers, match_edges, review_edges, keys_created, \
              keys_merged, keys_split, keys_retired, records_added, records_changed, \
-             records_deleted) VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, \
-             $14, $15, $16)",
+             records_deleted, link_fingerprint, incremental) VALUES ($1, $2, $3, $4, $5, $6, \
+             $7, $8, $9, $10, $11, $12, $13, $14, $15, $16, $17, $18)",
             &[
                 r.into(),
                 run.started_at.as_str().into(),
@@ -493,6 +538,8 @@ impl Store {
                 run.added.into(),
                 run.changed.into(),
                 run.deleted.into(),
+                run.link_fingerprint.as_str().into(),
+                i64::from(run.incremental).into(),
             ],
         )?;
         let inputs: Vec<Vec<Value>> = run
@@ -599,7 +646,32 @@ impl Store {
             &["run_id", "customer_key", "event", "other_key", "records"],
             &events,
         )?;
-        self.db.exec("DELETE FROM edges", &[])?;
+        match &run.edges_dropped {
+            None => {
+                self.db.exec("DELETE FROM edges", &[])?;
+            }
+            Some(records) if !records.is_empty() => {
+                self.db.batch(
+                    "CREATE TEMPORARY TABLE IF NOT EXISTS samekey_dropped \
+                     (source TEXT NOT NULL, source_id TEXT NOT NULL)",
+                )?;
+                self.db.exec("DELETE FROM samekey_dropped", &[])?;
+                let rows: Vec<Vec<Value>> = records
+                    .iter()
+                    .map(|(s, id)| vec![s.as_str().into(), id.as_str().into()])
+                    .collect();
+                self.db
+                    .insert_many("samekey_dropped", &["source", "source_id"], &rows)?;
+                self.db.exec(
+                    "DELETE FROM edges WHERE (source_a, id_a) IN \
+                     (SELECT source, source_id FROM samekey_dropped) \
+                     OR (source_b, id_b) IN (SELECT source, source_id FROM samekey_dropped)",
+                    &[],
+                )?;
+                self.db.exec("DELETE FROM samekey_dropped", &[])?;
+            }
+            Some(_) => {}
+        }
         let edges: Vec<Vec<Value>> = run
             .edges
             .iter()
@@ -716,6 +788,15 @@ impl Store {
     /// Run a query (for tests and SQL users of the library).
     pub fn query(&mut self, sql: &str, params: &[Value]) -> Result<Vec<Vec<Value>>> {
         self.db.query(sql, params)
+    }
+}
+
+/// A number read back from a `DOUBLE PRECISION` column.
+fn real(v: &Value) -> f64 {
+    match v {
+        Value::Real(f) => *f,
+        Value::Int(i) => *i as f64,
+        _ => f64::NAN,
     }
 }
 

@@ -9,7 +9,7 @@
 //! holds a store of every version, which must keep opening (see `tests/store.rs`).
 
 /// Migrations, index `i` takes a store from version `i` to version `i + 1`.
-pub const MIGRATIONS: &[&str] = &[V1, V2];
+pub const MIGRATIONS: &[&str] = &[V1, V2, V3];
 
 /// The schema version this build writes.
 pub const VERSION: i64 = MIGRATIONS.len() as i64;
@@ -109,4 +109,17 @@ CREATE TABLE record_fingerprints (
 ALTER TABLE runs ADD COLUMN records_added BIGINT NOT NULL DEFAULT 0;
 ALTER TABLE runs ADD COLUMN records_changed BIGINT NOT NULL DEFAULT 0;
 ALTER TABLE runs ADD COLUMN records_deleted BIGINT NOT NULL DEFAULT 0;
+";
+
+/// Version 3: what an incremental refresh needs. `runs.link_fingerprint` fingerprints
+/// what decides a pair's score (samekey's version, the spec text and the model), so that
+/// the stored edges are reused only by a run that would score them the same;
+/// `runs.incremental` says how the run linked (1: only the pairs of new and changed
+/// records were compared). Edges are found by either record. Stores of version 2 have no
+/// link fingerprint: their next refresh is a full one.
+const V3: &str = "
+ALTER TABLE runs ADD COLUMN link_fingerprint TEXT NOT NULL DEFAULT '';
+ALTER TABLE runs ADD COLUMN incremental BIGINT NOT NULL DEFAULT 0;
+CREATE INDEX edges_a ON edges (source_a, id_a);
+CREATE INDEX edges_b ON edges (source_b, id_b);
 ";

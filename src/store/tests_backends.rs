@@ -223,6 +223,40 @@ fn sqlite_fixture_v1_migrates() {
     fixture_v1_migrates(&path.display().to_string());
 }
 
+/// The version 2 fixture (two refreshes of the mini data by the build before version
+/// 3) opens, is migrated forward, and has no link fingerprint (so the next refresh
+/// links in full); its edges are found by record.
+#[test]
+fn sqlite_fixture_v2_migrates() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("v2.sqlite");
+    std::fs::copy(
+        concat!(env!("CARGO_MANIFEST_DIR"), "/tests/data/store/v2.sqlite"),
+        &path,
+    )
+    .unwrap();
+    let mut s = Store::open(&path.display().to_string()).unwrap();
+    assert_eq!(s.version().unwrap(), schema::VERSION);
+    let prev = s.previous().unwrap();
+    assert_eq!(prev.last_run, Some(2));
+    assert_eq!(prev.crosswalk.len(), 20);
+    assert_eq!(prev.fingerprints.len(), 20);
+    assert_eq!(prev.link_fingerprint, "");
+    let edges = s.edges().unwrap();
+    assert_eq!(edges.len(), 9);
+    assert!(edges
+        .iter()
+        .all(|e| e.weight > 0.0 && e.decision == "match"));
+    let plan = s
+        .query(
+            "EXPLAIN QUERY PLAN SELECT * FROM edges WHERE source_b = 'crm' AND id_b = 'c1'",
+            &[],
+        )
+        .unwrap();
+    let plan: Vec<String> = plan.iter().map(|r| r[r.len() - 1].text()).collect();
+    assert!(plan.iter().any(|p| p.contains("edges_b")), "{plan:?}");
+}
+
 #[test]
 fn sqlite_refuses_what_is_not_a_store() {
     let dir = tempfile::tempdir().unwrap();
