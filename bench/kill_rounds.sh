@@ -24,6 +24,7 @@ for l in sys.stdin:
     if m.get("reason") == "compiler-artifact" and m.get("executable") and m["target"]["name"] == "tests":
         print(m["executable"])')
 [[ -x "$bin" ]] || { echo "test binary not found; run cargo test --no-run" >&2; exit 1; }
+# The tests run target/debug/samekey: do not rebuild it while this runs.
 logs=target/kill-logs
 mkdir -p "$logs"
 echo "kill rounds: $rounds per test, $(uname -m), $(nproc) cores, $(date -u +%Y-%m-%dT%H:%MZ)"
