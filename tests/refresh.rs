@@ -664,3 +664,52 @@ fn a_version_2_store_refreshes_in_full_once() {
         "{out}"
     );
 }
+
+/// `--json`: the refresh and export summaries as JSON, with the numbers of the text.
+#[test]
+fn json_summaries() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    for f in ["crm.csv", "shop.csv", "spec.toml"] {
+        std::fs::copy(mini().join(f), d.join(f)).unwrap();
+    }
+    let store = d.join("s.db").display().to_string();
+    let (out, _) = refresh(d, &store, &["--json"]);
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap_or_else(|e| panic!("{e}: {out}"));
+    assert_eq!(j["run"], 1);
+    assert_eq!(j["previous_run"], serde_json::Value::Null);
+    assert_eq!(j["committed"], true);
+    assert_eq!(j["records"], 20);
+    assert_eq!(j["sources"][0]["source"], "crm");
+    assert_eq!(j["sources"][0]["added"], 10);
+    assert_eq!(j["key_events"]["created"], j["customers"]);
+    assert_eq!(j["linking"]["mode"], "full");
+    edit(
+        &d.join("crm.csv"),
+        "c2",
+        Some("c2,Marcus,Oyelaran,Springfield,62702,marcus.o@example.net,217-555-0102,07/02/1979"),
+    );
+    let (out, _) = refresh(d, &store, &["--json", "--dry-run"]);
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap_or_else(|e| panic!("{e}: {out}"));
+    assert_eq!(j["committed"], false);
+    assert_eq!(j["sources"][0]["changed"], 1);
+    assert_eq!(j["linking"]["mode"], "incremental");
+    assert_eq!(j["linking"]["changed_records"], 1);
+    let o = run(
+        &[
+            "export",
+            "--store",
+            &store,
+            "--out",
+            d.join("pub").to_str().unwrap(),
+            "--json",
+        ],
+        None,
+    );
+    let (out, err) = text(&o);
+    assert!(o.status.success(), "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap_or_else(|e| panic!("{e}: {out}"));
+    assert_eq!(j["run"], 1);
+    assert_eq!(j["crosswalk_rows"], 20);
+    assert_eq!(j["files"].as_array().unwrap().len(), 2);
+}

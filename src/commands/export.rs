@@ -19,6 +19,9 @@ pub struct Args {
     /// Only key events of runs after this run id (default: all runs).
     #[arg(long, value_name = "RUN", default_value_t = 0)]
     pub events_since: i64,
+    /// Print the summary as JSON instead of text.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Run `samekey export`.
@@ -71,7 +74,17 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     }
     w.finish()?;
     let outputs = staging.commit()?;
-    if !global.quiet {
+    if !global.quiet && args.json {
+        let json = serde_json::json!({
+            "run": last_run,
+            "store": store.location(),
+            "crosswalk_rows": crosswalk.len(),
+            "key_events": events.len(),
+            "events_since": args.events_since,
+            "files": outputs.iter().map(|p| p.display().to_string()).collect::<Vec<_>>(),
+        });
+        println!("{}", serde_json::to_string_pretty(&json)?);
+    } else if !global.quiet {
         println!(
             "exported run {last_run} of store `{}`: {} crosswalk rows, {} key events (runs after \
              {})",

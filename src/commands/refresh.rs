@@ -35,6 +35,9 @@ pub struct Args {
     /// Show what the refresh would do, without committing anything.
     #[arg(long)]
     pub dry_run: bool,
+    /// Print the summary as JSON instead of text.
+    #[arg(long)]
+    pub json: bool,
     /// Print the wall time of each stage on stderr.
     #[arg(long)]
     pub timings: bool,
@@ -88,7 +91,12 @@ pub fn run(args: &Args, global: Global) -> anyhow::Result<()> {
     match result {
         Ok(summary) => {
             if !global.quiet {
-                print_summary(&summary, store.location(), args.dry_run);
+                if args.json {
+                    let json = summary_json(&summary, store.location(), args.dry_run);
+                    println!("{}", serde_json::to_string_pretty(&json)?);
+                } else {
+                    print_summary(&summary, store.location(), args.dry_run);
+                }
             }
             Ok(())
         }
@@ -123,6 +131,10 @@ fn refresh_locked(
         spec_text,
         progress: !global.quiet,
         full: args.full,
+    };
+    let opts = refresh::LinkOptions {
+        progress: opts.progress && !args.json,
+        ..opts
     };
     let linked = refresh::link_in_memory(spec, model, opts, &prev, &mut || store.edges())?;
     timings.extend(&linked.timings);
@@ -162,6 +174,63 @@ fn model_from_store(text: &str, spec: &Spec, location: &str) -> anyhow::Result<M
     let name = PathBuf::from(format!("{location} (latest model)"));
     Model::from_toml(text, &name, spec).with_context(|| {
         format!("the latest model in store `{location}` does not fit this spec; run with --refit")
+    })
+}
+
+/// The refresh summary as JSON: the same numbers as the text, every key event kind
+/// counted, the examples listed.
+pub fn summary_json(s: &RefreshSummary, location: &str, dry_run: bool) -> serde_json::Value {
+    use serde_json::json;
+    let linking = match &s.mode {
+        LinkMode::Full { reason } => json!({ "mode": "full", "reason": reason }),
+        LinkMode::Incremental {
+            changed,
+            deleted,
+            compared,
+            reused,
+        } => json!({
+            "mode": "incremental",
+            "changed_records": changed,
+            "deleted_records": deleted,
+            "pairs_compared": compared,
+            "stored_pairs_reused": reused,
+        }),
+    };
+    let counts: serde_json::Map<String, serde_json::Value> = s
+        .events
+        .iter()
+        .map(|(k, n, _)| (k.name().to_string(), json!(n)))
+        .collect();
+    let examples: Vec<serde_json::Value> = s
+        .events
+        .iter()
+        .flat_map(|(_, _, ex)| ex)
+        .map(|e| {
+            json!({ "event": e.event, "customer_key": e.key, "other_key": e.other, "records": e.records })
+        })
+        .collect();
+    json!({
+        "run": s.run,
+        "previous_run": s.previous_run,
+        "store": location,
+        "committed": !dry_run,
+        "sources": s.sources.iter().map(|c| json!({
+            "source": c.source,
+            "records": c.records,
+            "added": c.added,
+            "changed": c.changed,
+            "deleted": c.deleted,
+            "rejected": c.rejected,
+        })).collect::<Vec<_>>(),
+        "records": s.records,
+        "customers": s.customers,
+        "match_pairs": s.match_edges,
+        "review_pairs": s.review_edges,
+        "records_that_changed_customer": s.moved,
+        "model": if s.fitted { "fitted in this run" } else { "stored" },
+        "linking": linking,
+        "key_events": counts,
+        "key_event_examples": examples,
     })
 }
 
