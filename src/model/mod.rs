@@ -376,6 +376,74 @@ struct FreqAdjust<'a> {
     adjust: Vec<f64>,
 }
 
+/// The value-frequency adjustment of one attribute for the pairs of one blocking key.
+#[derive(Debug, Clone)]
+enum KeyAdjust {
+    /// The attribute is not part of the key: the adjustment among all record pairs.
+    Global,
+    /// The key is built from the attribute: per value id, the adjustment among the
+    /// values that share the value's key part (see [`key_adjust`]).
+    Within(Vec<f64>),
+}
+
+/// The value-frequency adjustment of attribute `attr` for the pairs of key `spec`.
+///
+/// A key chose its pairs for sharing a key part of the attribute (its soundex code, its
+/// initial, the whole value), so among them, exact agreement on value v is about as
+/// likely by chance as v is among the values with v's key part G: the adjustment is
+/// log2(Σ_{w∈G} p_w² / (p_G · p_v)) instead of log2(Σ_w p_w² / p_v) (p_G = Σ_{w∈G}
+/// p_w). For a key on the whole value, G = {v} and the adjustment is 0: sharing a rare
+/// name is no surprise among pairs found for sharing it.
+fn key_adjust(
+    spec: &crate::block::BlockSpec,
+    attr: crate::record::Attr,
+    freq: Option<&FreqAdjust<'_>>,
+    table: &RecordTable,
+) -> KeyAdjust {
+    use std::collections::HashMap;
+    let parts: Vec<crate::block::KeyFn> = spec
+        .keys
+        .iter()
+        .filter(|p| p.attr == attr)
+        .map(|p| p.func)
+        .collect();
+    let Some(f) = freq else {
+        return KeyAdjust::Global;
+    };
+    if parts.is_empty() {
+        return KeyAdjust::Global;
+    }
+    let col = table.column(attr);
+    let present = col.present().max(1) as f64;
+    let group = |value: &str| -> String {
+        parts
+            .iter()
+            .map(|&func| crate::block::key_value(value, func).unwrap_or_default())
+            .collect::<Vec<_>>()
+            .join("\u{1f}")
+    };
+    let groups: Vec<String> = col.dict.iter().map(|v| group(v)).collect();
+    let mut sums: HashMap<&str, (f64, f64)> = HashMap::new();
+    for (g, &n) in groups.iter().zip(&col.counts) {
+        let p = n as f64 / present;
+        let e = sums.entry(g.as_str()).or_insert((0.0, 0.0));
+        e.0 += p * p;
+        e.1 += p;
+    }
+    let within = groups
+        .iter()
+        .zip(&col.counts)
+        .map(|(g, &n)| {
+            let p = (n.max(1) as f64) / present;
+            let (sum_p2, p_g) = sums[g.as_str()];
+            let x = sum_p2.max(f64::MIN_POSITIVE) / (p_g.max(p) * p);
+            x.log2().clamp(-FREQ_MAX_ADJUST, FREQ_MAX_ADJUST)
+        })
+        .collect::<Vec<f64>>();
+    debug_assert_eq!(within.len(), f.adjust.len());
+    KeyAdjust::Within(within)
+}
+
 /// Computes evidence and probabilities for scoring pairs with one model.
 ///
 /// A pair's evidence is Σ_k [`contribution`](Self::contribution) over the compared
@@ -393,6 +461,8 @@ struct FreqAdjust<'a> {
 pub struct Scorer<'a> {
     /// The pooled table, then one per blocking key (by the spec's key order).
     tables: Vec<(Vec<Vec<f64>>, f64)>,
+    /// Per table, per attribute: the value-frequency adjustment that table uses.
+    adjust: Vec<Vec<KeyAdjust>>,
     /// Index into `tables` per spec blocking key.
     key_table: Vec<usize>,
     freq: Vec<Option<FreqAdjust<'a>>>,
@@ -408,7 +478,7 @@ impl<'a> Scorer<'a> {
         table: &'a RecordTable,
         keys: &[crate::block::BlockSpec],
     ) -> Scorer<'a> {
-        let freq = model
+        let freq: Vec<Option<FreqAdjust<'a>>> = model
             .attribute
             .iter()
             .zip(&comparison.comparators)
@@ -449,6 +519,7 @@ impl<'a> Scorer<'a> {
             model.weights(),
             crate::decide::prior_log2_odds(model.lambda),
         )];
+        let mut adjust = vec![vec![KeyAdjust::Global; n_levels.len()]];
         let key_table = keys
             .iter()
             .map(|spec| {
@@ -461,22 +532,33 @@ impl<'a> Scorer<'a> {
                     return 0;
                 }
                 tables.push((km.weight.clone(), crate::decide::prior_log2_odds(km.lambda)));
+                adjust.push(
+                    comparison
+                        .comparators
+                        .iter()
+                        .zip(&freq)
+                        .map(|(c, f)| key_adjust(spec, c.attr, f.as_ref(), table))
+                        .collect(),
+                );
                 tables.len() - 1
             })
             .collect();
         Scorer {
             tables,
+            adjust,
             key_table,
             freq,
         }
     }
 
-    fn table(&self, key: Option<usize>) -> &(Vec<Vec<f64>>, f64) {
-        let t = key
-            .and_then(|k| self.key_table.get(k))
+    fn table_index(&self, key: Option<usize>) -> usize {
+        key.and_then(|k| self.key_table.get(k))
             .copied()
-            .unwrap_or(0);
-        &self.tables[t]
+            .unwrap_or(0)
+    }
+
+    fn table(&self, key: Option<usize>) -> &(Vec<Vec<f64>>, f64) {
+        &self.tables[self.table_index(key)]
     }
 
     /// log2 prior odds of a match for pairs of blocking key `key` (`None`: the pooled
@@ -489,17 +571,25 @@ impl<'a> Scorer<'a> {
     /// Evidence (bits) added by attribute `k` at level `code` for a pair of blocking key
     /// `key` whose first record is `a`; 0 for a missing value. The value-frequency
     /// adjustment never takes the exact level below the next level's weight, so the
-    /// level order holds for every value.
+    /// level order holds for every value; it is not made for an attribute the key is
+    /// built from: the key chose its pairs for sharing that value, so two records
+    /// sharing a rare one is no surprise among them (its weight is already the level's
+    /// weight among the key's own pairs).
     #[inline]
     pub fn contribution(&self, key: Option<usize>, k: usize, code: u8, a: u32) -> f64 {
         if code == MISSING_LEVEL {
             return 0.0;
         }
-        let row = &self.table(key).0[k];
+        let t = self.table_index(key);
+        let row = &self.tables[t].0[k];
         let mut w = row[code as usize];
         if let Some(f) = &self.freq[k] {
             if code == f.exact {
-                w += f.adjust[f.ids[a as usize] as usize];
+                let id = f.ids[a as usize] as usize;
+                w += match &self.adjust[t][k] {
+                    KeyAdjust::Global => f.adjust[id],
+                    KeyAdjust::Within(v) => v[id],
+                };
                 if let Some(&next) = row.get(code as usize + 1) {
                     w = w.max(next);
                 }
@@ -1040,6 +1130,42 @@ mod tests {
             freq.weight(None, &dis, rare),
             plain.weight(None, &dis, rare)
         );
+        // Pairs of a key built from the family name shared it to be found: no
+        // adjustment for them, the key's own weight only.
+        let mut keyed = model_with(true);
+        keyed.keys = vec![KeyModel {
+            name: "family".into(),
+            pairs: 10,
+            lambda: 0.5,
+            m: vec![vec![0.6, 0.4]],
+            u: vec![vec![0.3, 0.7]],
+            weight: vec![vec![1.0, (0.4f64 / 0.7).log2()]],
+        }];
+        let block = crate::block::BlockSpec {
+            name: "family".into(),
+            keys: vec![crate::block::KeyPart::parse("family_name").unwrap()],
+            any_order: false,
+        };
+        let by_key = Scorer::new(&keyed, &comparison, &table, std::slice::from_ref(&block));
+        assert_eq!(by_key.weight(Some(0), &exact, rare), 1.0);
+        assert_eq!(by_key.weight(Some(0), &exact, smith), 1.0);
+        assert!(by_key.weight(None, &exact, rare) > by_key.weight(None, &exact, smith) + 3.0);
+        // A soundex key: the adjustment among the names with the same code. The 38
+        // names `name62` .. `name99` share one code (digits are not coded), each 1/38
+        // of it: log2((38 / 38²) / (1/38)) = 0 among them, against log2(0.3642 / 0.01)
+        // = +5.19 bits among all pairs (hand computed). `smith` is alone in its code: 0.
+        let block = crate::block::BlockSpec {
+            name: "family".into(),
+            keys: vec![crate::block::KeyPart::parse("soundex(family_name)").unwrap()],
+            any_order: false,
+        };
+        let by_code = Scorer::new(&keyed, &comparison, &table, std::slice::from_ref(&block));
+        let one_of_many = 62u32;
+        assert!((by_code.weight(Some(0), &exact, one_of_many) - 1.0).abs() < 1e-9);
+        assert!((by_code.weight(Some(0), &exact, smith) - 1.0).abs() < 1e-9);
+        let global =
+            by_code.weight(None, &exact, one_of_many) - plain.weight(None, &exact, one_of_many);
+        assert!((global - (sum_p2 / 0.01).log2()).abs() < 1e-9);
     }
 
     /// The label-free rule: a class is the same person when it rarely disagrees on the
