@@ -11,12 +11,9 @@ cd "$(dirname "$0")/.."
 secs=${SAMEKEY_FUZZ_SECONDS:-600}
 targets=("$@")
 [[ ${#targets[@]} -gt 0 ]] || targets=(names email phone address dates csv_reading spec_loading model_loading)
-bin=$(cargo test --locked --test tests --no-run --message-format=json 2>/dev/null |
-    python3 -c 'import json,sys
-for l in sys.stdin:
-    m = json.loads(l)
-    if m.get("reason") == "compiler-artifact" and m.get("executable") and m["target"]["name"] == "tests":
-        print(m["executable"])')
+# shellcheck source=bench/lib/test_binary.sh
+source bench/lib/test_binary.sh
+bin=$(test_binary)
 [[ -x "$bin" ]] || { echo "test binary not found; run cargo test --no-run" >&2; exit 1; }
 logs=target/fuzz-logs
 mkdir -p "$logs"

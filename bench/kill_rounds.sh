@@ -17,12 +17,9 @@ tests=(
     a_second_writer_is_refused_and_the_folder_holds_one_run
     a_killed_synth_leaves_the_previous_data
 )
-bin=$(cargo test --locked --test tests --no-run --message-format=json 2>/dev/null |
-    python3 -c 'import json,sys
-for l in sys.stdin:
-    m = json.loads(l)
-    if m.get("reason") == "compiler-artifact" and m.get("executable") and m["target"]["name"] == "tests":
-        print(m["executable"])')
+# shellcheck source=bench/lib/test_binary.sh
+source bench/lib/test_binary.sh
+bin=$(test_binary)
 [[ -x "$bin" ]] || { echo "test binary not found; run cargo test --no-run" >&2; exit 1; }
 # The tests run target/debug/samekey: do not rebuild it while this runs.
 logs=target/kill-logs
